@@ -1,0 +1,227 @@
+#include "neurons/lif.hpp"
+
+#include <algorithm>
+#include <array>
+#include <cmath>
+#include <fmt/format.h>
+
+#include "core/error.hpp"
+
+namespace nvsyn {
+
+LifParameters LifParameters::from_table(const ParamTable& t) {
+  LifParameters p;
+  p.tau_m = t.quantity_or("tau_m", Dimension::time, p.tau_m);
+  p.capacitance = t.quantity_or("capacitance", Dimension::capacitance, p.capacitance);
+  p.v_rest = t.quantity_or("v_rest", Dimension::voltage, p.v_rest);
+  p.v_threshold = t.quantity_or("v_threshold", Dimension::voltage, p.v_threshold);
+  p.v_reset = t.quantity_or("v_reset", Dimension::voltage, p.v_rest);
+  p.refractory = t.quantity_or("refractory", Dimension::time, p.refractory);
+  p.tau_exc = t.quantity_or("tau_exc", Dimension::time, p.tau_exc);
+  p.tau_inh = t.quantity_or("tau_inh", Dimension::time, p.tau_inh);
+  p.bias = t.quantity_or("bias", Dimension::current, p.bias);
+  p.v_init = t.has("v_init") ? read_distribution(t, "v_init", Dimension::voltage)
+                             : Distribution::constant(p.v_rest);
+
+  auto positive = [&](const char* key, double v) {
+    if (!(v > 0)) throw t.error(key, fmt::format("must be positive, got {}", v));
+  };
+  positive("tau_m", p.tau_m);
+  positive("capacitance", p.capacitance);
+  positive("tau_exc", p.tau_exc);
+  positive("tau_inh", p.tau_inh);
+  if (p.refractory < 0) throw t.error("refractory", "must not be negative");
+  if (!(p.v_threshold > p.v_reset))
+    throw t.error(t.has("v_threshold") ? "v_threshold" : "v_reset",
+                  fmt::format("v_threshold ({}) must lie above v_reset ({})",
+                              format_quantity(p.v_threshold, Dimension::voltage),
+                              format_quantity(p.v_reset, Dimension::voltage)));
+  if (p.v_init.max_value() >= p.v_threshold)
+    throw t.error("v_init", "initial potentials must lie below v_threshold");
+  return p;
+}
+
+// ---------------------------------------------------------------- trajectory
+
+LifTrajectory::LifTrajectory(const LifParameters& p, const LifState& start, double drive)
+    : p_(p), start_(start), drive_(drive), v_inf_(p.v_rest + p.resistance() * drive) {
+  const double taus[2] = {p.tau_exc, p.tau_inh};
+  for (int c = 0; c < 2; ++c) {
+    decay_rate_[c] = 1.0 / taus[c] - 1.0 / p.tau_m;
+    peak_s_[c] = decay_rate_[c] == 0.0 ? p.tau_m : std::log(p.tau_m / taus[c]) / decay_rate_[c];
+  }
+}
+
+double LifTrajectory::kernel(int c, double s) const {
+  const double d = decay_rate_[c];
+  const double shape = d == 0.0 ? s : -std::expm1(-s * d) / d;
+  return std::exp(-s / p_.tau_m) * shape;
+}
+
+double LifTrajectory::v_at(double s) const {
+  const double em = std::exp(-s / p_.tau_m);
+  return v_inf_ + (start_.v - v_inf_) * em + (start_.i_exc * kernel(0, s) + start_.i_inh * kernel(1, s)) / p_.capacitance;
+}
+
+LifState LifTrajectory::state_at(double s) const {
+  return {v_at(s), start_.i_exc * std::exp(-s / p_.tau_exc), start_.i_inh * std::exp(-s / p_.tau_inh)};
+}
+
+double LifTrajectory::v_upper_bound(double a, double b) const {
+  // Constant-drive part: monotone in s, so its maximum is at an end.
+  const double v_a = v_inf_ + (start_.v - v_inf_) * std::exp(-a / p_.tau_m);
+  const double v_b = v_inf_ + (start_.v - v_inf_) * std::exp(-b / p_.tau_m);
+  double bound = std::max(v_a, v_b);
+  const double currents[2] = {start_.i_exc, start_.i_inh};
+  for (int c = 0; c < 2; ++c) {
+    if (currents[c] == 0.0) continue;
+    // K >= 0 is unimodal: its maximum on [a, b] is at the clamped peak,
+    // its minimum at an end.
+    const double k = currents[c] > 0 ? kernel(c, std::clamp(peak_s_[c], a, b))
+                                     : std::min(kernel(c, a), kernel(c, b));
+    bound += currents[c] * k / p_.capacitance;
+  }
+  return bound;
+}
+
+std::optional<double> LifTrajectory::first_crossing(double threshold, double horizon) const {
+  // Width below which an interval that brackets a crossing is refined directly;
+  // two separate crossings closer than this cannot occur for physical time constants.
+  constexpr double kIsolate = 1e-7;
+  // Width below which a non-bracketing interval is given up as a numerical graze.
+  constexpr double kGraze = 1e-13;
+  struct Interval { double a, b; };
+  std::array<Interval, 256> stack;
+  std::size_t top = 0;
+  stack[top++] = {0.0, horizon};
+  while (top > 0) {
+    const Interval iv = stack[--top];
+    if (v_upper_bound(iv.a, iv.b) < threshold) continue;
+    const double width = iv.b - iv.a;
+    if (v_at(iv.b) >= threshold && width <= kIsolate) {
+      // Refine the bracket (V(a) < threshold <= V(b)) by bisection to full precision.
+      double lo = iv.a, hi = iv.b;
+      for (int k = 0; k < 80; ++k) {
+        const double mid = 0.5 * (lo + hi);
+        if (mid <= lo || mid >= hi) break;
+        (v_at(mid) >= threshold ? hi : lo) = mid;
+      }
+      return hi;
+    }
+    if (width <= kGraze || top + 2 > stack.size()) continue;
+    const double mid = 0.5 * (iv.a + iv.b);
+    // Push the right half first so the left half (earlier times) is examined first.
+    stack[top++] = {mid, iv.b};
+    stack[top++] = {iv.a, mid};
+  }
+  return std::nullopt;
+}
+
+// ---------------------------------------------------------------- group
+
+LifGroup::LifGroup(std::uint32_t size, LifParameters params, std::uint64_t seed, std::uint32_t population_id)
+    : p_(std::move(params)),
+      v_(size),
+      i_exc_(size, 0.0),
+      i_inh_(size, 0.0),
+      i_injected_(size, 0.0),
+      t_last_(size, 0.0),
+      refractory_until_(size, -1.0) {
+  for (std::uint32_t n = 0; n < size; ++n) {
+    RandomStream rng(seed, StreamPurpose::initial_state, (std::uint64_t{population_id} << 32) | n);
+    v_[n] = p_.v_init.draw(rng);
+  }
+}
+
+void LifGroup::advance(std::uint32_t n, double t) {
+  double s = t - t_last_[n];
+  if (!(s > 0)) return;
+  if (t_last_[n] < refractory_until_[n]) {
+    // Held at reset: only the synaptic currents decay.
+    const double held = std::min(t, refractory_until_[n]) - t_last_[n];
+    i_exc_[n] *= std::exp(-held / p_.tau_exc);
+    i_inh_[n] *= std::exp(-held / p_.tau_inh);
+    v_[n] = p_.v_reset;
+    t_last_[n] += held;
+    s = t - t_last_[n];
+    if (!(s > 0)) {
+      t_last_[n] = t;
+      return;
+    }
+  }
+  LifTrajectory traj(p_, {v_[n], i_exc_[n], i_inh_[n]}, p_.bias + i_injected_[n]);
+  const LifState next = traj.state_at(s);
+  v_[n] = next.v;
+  i_exc_[n] = next.i_exc;
+  i_inh_[n] = next.i_inh;
+  t_last_[n] = t;
+}
+
+void LifGroup::fire_until(std::uint32_t n, double t_limit, std::vector<double>& spikes) {
+  for (;;) {
+    if (t_last_[n] < refractory_until_[n]) {
+      if (refractory_until_[n] >= t_limit) return;
+      advance(n, refractory_until_[n]);
+    }
+    const double horizon = t_limit - t_last_[n];
+    if (!(horizon > 0)) return;
+    LifTrajectory traj(p_, {v_[n], i_exc_[n], i_inh_[n]}, p_.bias + i_injected_[n]);
+    const auto crossing = traj.first_crossing(p_.v_threshold, horizon);
+    if (!crossing) return;
+    const double t_spike = t_last_[n] + *crossing;
+    if (!std::isfinite(t_spike))
+      throw InternalError(fmt::format("lif neuron {}: non-finite spike time after t = {} s", n, t_last_[n]));
+    const LifState at = traj.state_at(*crossing);
+    spikes.push_back(t_spike);
+    v_[n] = p_.v_reset;
+    i_exc_[n] = at.i_exc;
+    i_inh_[n] = at.i_inh;
+    t_last_[n] = t_spike;
+    refractory_until_[n] = t_spike + p_.refractory;
+  }
+}
+
+void LifGroup::process(std::uint32_t n, std::span<const NeuronInput> inputs, double t_end,
+                       std::vector<double>& spikes, std::span<double> samples) {
+  for (const NeuronInput& in : inputs) {
+    fire_until(n, in.time, spikes);
+    advance(n, in.time);
+    switch (in.kind) {
+      case InputKind::synaptic:
+        (in.receptor == Receptor::excitatory ? i_exc_[n] : i_inh_[n]) += in.amount;
+        break;
+      case InputKind::current_change:
+        i_injected_[n] += in.amount;
+        break;
+      case InputKind::sample:
+        samples[in.slot * 3 + 0] = v_[n];
+        samples[in.slot * 3 + 1] = i_exc_[n];
+        samples[in.slot * 3 + 2] = i_inh_[n];
+        break;
+    }
+  }
+  fire_until(n, t_end, spikes);
+  if (!std::isfinite(v_[n]))
+    throw InternalError(fmt::format("lif neuron {}: membrane potential is not finite at t = {} s", n, t_last_[n]));
+}
+
+bool LifGroup::may_fire_without_input(std::uint32_t n) const {
+  // Upper bound of V over [t_last, infinity) without further input.
+  const double drive = p_.bias + i_injected_[n];
+  if (p_.v_rest + p_.resistance() * drive >= p_.v_threshold) return true;
+  LifTrajectory traj(p_, {v_[n], i_exc_[n], i_inh_[n]}, drive);
+  // Beyond both kernel peaks and many tau_m the bound only falls; 50 tau covers it.
+  const double far = 50.0 * std::max({p_.tau_m, p_.tau_exc, p_.tau_inh});
+  return traj.v_upper_bound(0.0, far) >= p_.v_threshold;
+}
+
+std::span<const TraceVariable> LifGroup::variables() const {
+  static constexpr std::array<TraceVariable, 3> kVariables{{
+      {"v", Dimension::voltage},
+      {"i_exc", Dimension::current},
+      {"i_inh", Dimension::current},
+  }};
+  return kVariables;
+}
+
+}  // namespace nvsyn

@@ -1,0 +1,102 @@
+#pragma once
+// Current-based leaky integrate-and-fire neuron with exponential synaptic currents.
+//
+//   C dV/dt      = -C (V - v_rest) / tau_m + I_exc + I_inh + I_bias + I_injected
+//   dI_exc/dt    = -I_exc / tau_exc,   dI_inh/dt = -I_inh / tau_inh
+//   a synaptic event of weight w (A) makes I_exc += w (or I_inh += w)
+//   V >= v_threshold: spike; V = v_reset and held there for `refractory`;
+//   synaptic currents keep decaying while V is held.
+//
+// Between events the state is advanced with the exact solution (Rotter & Diesmann,
+// Biol. Cybern. 81:381, 1999): with s the time since the last update,
+//   V(s) = v_rest + R I_0 (1 - e^{-s/tau_m}) + (V_0 - v_rest) e^{-s/tau_m}
+//          + sum_x (I_x / C) K_x(s),   K_x(s) = e^{-s/tau_m} (1 - e^{-s d_x}) / d_x,
+//   d_x = 1/tau_x - 1/tau_m  (K_x(s) = s e^{-s/tau_m} in the limit d_x -> 0),
+// written with expm1 so that tau_x == tau_m needs no special case.
+// R = tau_m / C; I_0 = I_bias + I_injected is constant between events.
+//
+// Threshold crossings are located by interval subdivision with a rigorous upper
+// bound of V on each interval (the constant-drive term is monotone, each K_x is
+// unimodal with its peak at s* = ln(tau_m/tau_x)/d_x), then refined by bracketing
+// to machine precision. The first crossing is always found; trajectories that graze
+// threshold by less than the floating-point resolution may be missed.
+//
+// Model-file parameters (all with units): tau_m, capacitance, v_rest, v_threshold,
+// v_reset, refractory, tau_exc, tau_inh, bias (A), v_init (a value or distribution).
+#include <memory>
+#include <optional>
+
+#include "core/distribution.hpp"
+#include "core/param_table.hpp"
+#include "neurons/neuron_group.hpp"
+
+namespace nvsyn {
+
+struct LifParameters {
+  double tau_m = 20e-3;         // s
+  double capacitance = 250e-12; // F
+  double v_rest = -65e-3;       // V
+  double v_threshold = -50e-3;  // V
+  double v_reset = -65e-3;      // V
+  double refractory = 2e-3;     // s
+  double tau_exc = 5e-3;        // s
+  double tau_inh = 10e-3;       // s
+  double bias = 0.0;            // A
+  Distribution v_init = Distribution::constant(-65e-3);  // V
+
+  static LifParameters from_table(const ParamTable& table);
+  double resistance() const { return tau_m / capacitance; }
+};
+
+// The exact single-neuron trajectory, usable on its own (tests, analysis).
+struct LifState {
+  double v = 0.0;
+  double i_exc = 0.0;
+  double i_inh = 0.0;
+};
+
+class LifTrajectory {
+ public:
+  LifTrajectory(const LifParameters& p, const LifState& start, double drive);
+  double v_at(double s) const;
+  LifState state_at(double s) const;
+  // Upper bound of V over [a, b] (0 <= a <= b).
+  double v_upper_bound(double a, double b) const;
+  // First s in (0, horizon) with V(s) >= threshold, if any.
+  std::optional<double> first_crossing(double threshold, double horizon) const;
+
+ private:
+  double kernel(int channel, double s) const;
+  const LifParameters& p_;
+  LifState start_;
+  double drive_;          // I_0, A
+  double v_inf_;          // v_rest + R I_0
+  double decay_rate_[2];  // d_x = 1/tau_x - 1/tau_m
+  double peak_s_[2];      // peak time of K_x
+};
+
+class LifGroup final : public NeuronGroup {
+ public:
+  LifGroup(std::uint32_t size, LifParameters params, std::uint64_t seed, std::uint32_t population_id);
+
+  std::string_view model_name() const override { return "lif"; }
+  std::uint32_t size() const override { return static_cast<std::uint32_t>(v_.size()); }
+  void process(std::uint32_t neuron, std::span<const NeuronInput> inputs, double t_end,
+               std::vector<double>& spikes, std::span<double> samples) override;
+  bool may_fire_without_input(std::uint32_t neuron) const override;
+  std::span<const TraceVariable> variables() const override;
+  std::size_t bytes_per_neuron() const override { return 6 * sizeof(double); }
+
+  const LifParameters& parameters() const { return p_; }
+  double v(std::uint32_t neuron) const { return v_[neuron]; }
+
+ private:
+  void advance(std::uint32_t n, double t);
+  void fire_until(std::uint32_t n, double t_limit, std::vector<double>& spikes);
+
+  LifParameters p_;
+  // structure of arrays, one entry per neuron
+  std::vector<double> v_, i_exc_, i_inh_, i_injected_, t_last_, refractory_until_;
+};
+
+}  // namespace nvsyn

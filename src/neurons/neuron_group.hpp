@@ -1,0 +1,62 @@
+#pragma once
+// The interface between the event kernel and a neuron model.
+//
+// A NeuronGroup holds the state of all neurons of one population as structure of
+// arrays. The kernel hands it, neuron by neuron, the inputs that arrive at that
+// neuron inside one window [t_begin, t_end), sorted by (time, kind, source, sequence).
+// The model advances the neuron exactly from event to event, locates threshold
+// crossings in between to within 1e-9 s, and reports spike times. A neuron that
+// receives nothing and cannot fire on its own (may_fire_without_input() == false)
+// is never visited: idle neurons cost nothing.
+#include <cstdint>
+#include <span>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include "core/units.hpp"
+
+namespace nvsyn {
+
+enum class Receptor : std::uint8_t { excitatory = 0, inhibitory = 1 };
+
+// Order of kinds at equal times: current changes, then synaptic input, then samples.
+enum class InputKind : std::uint8_t { current_change = 0, synaptic = 1, sample = 2 };
+
+struct NeuronInput {
+  double time = 0.0;       // s
+  double amount = 0.0;     // A: current jump (synaptic) or change of injected current
+  std::uint32_t slot = 0;  // for samples: row of the sample buffer to fill
+  InputKind kind = InputKind::synaptic;
+  Receptor receptor = Receptor::excitatory;
+};
+
+// A variable that can be recorded as a trace.
+struct TraceVariable {
+  std::string_view name;
+  Dimension dimension;
+};
+
+class NeuronGroup {
+ public:
+  virtual ~NeuronGroup() = default;
+
+  virtual std::string_view model_name() const = 0;
+  virtual std::uint32_t size() const = 0;
+
+  // Processes `inputs` (all inside the current window, sorted) and then lets the
+  // neuron evolve freely until t_end (exclusive). Appends spike times, ascending,
+  // to `spikes`. For each sample input, writes variables() values of the neuron at
+  // that time into samples[slot * variables().size() + k].
+  virtual void process(std::uint32_t neuron, std::span<const NeuronInput> inputs, double t_end,
+                       std::vector<double>& spikes, std::span<double> samples) = 0;
+
+  // False when, without further input, the neuron can provably never reach
+  // threshold: the kernel then stops visiting it.
+  virtual bool may_fire_without_input(std::uint32_t neuron) const = 0;
+
+  virtual std::span<const TraceVariable> variables() const = 0;
+  virtual std::size_t bytes_per_neuron() const = 0;
+};
+
+}  // namespace nvsyn

@@ -1,0 +1,73 @@
+#pragma once
+// Writes a run file: HDF5, layout "nvsyn-run" version 1 (README.md, "The run file").
+//
+// Growing datasets (spikes, traces) are chunked, deflate-compressed and appended as
+// the run goes: memory stays flat however long the run, and a crash loses at most
+// one flush interval. Every dataset holding a quantity has a `units` attribute (SI).
+// The root attribute `status` is "running" until finish() writes the final state.
+#include <cstdint>
+#include <memory>
+#include <span>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include "core/units.hpp"
+
+namespace nvsyn {
+
+enum class RunStatus { running, complete, interrupted, failed };
+std::string_view run_status_name(RunStatus s);
+
+struct RunHeader {
+  std::string nvsyn_version;
+  std::uint64_t seed = 0;
+  double duration = 0.0;   // s, requested model time
+  std::string model_text;  // full text of the model file
+  std::string model_file;  // path as given
+};
+
+struct PathwayRecord {
+  std::string name;
+  std::string source;  // population or input name
+  std::string target;
+  std::string rule;    // learning rule, "none" when static
+  std::string device;  // device model, "ideal" when none
+  std::string receptor;
+  std::span<const std::uint32_t> pre;
+  std::span<const std::uint32_t> post;
+  std::span<const double> delay;   // s
+  std::span<const double> weight;  // A (current-based synapses)
+};
+
+class RunWriter {
+ public:
+  // Creates (truncates) `path`. Throws UserError naming the path if it cannot.
+  RunWriter(const std::string& path, const RunHeader& header);
+  ~RunWriter();
+  RunWriter(const RunWriter&) = delete;
+  RunWriter& operator=(const RunWriter&) = delete;
+
+  void describe_population(const std::string& name, std::uint32_t size, std::string_view neuron_model);
+  // Creates /spikes/<population>/{time,neuron}; returns a stream id for append_spikes.
+  int open_spikes(const std::string& population);
+  void append_spikes(int stream, std::span<const double> times, std::span<const std::uint32_t> neurons);
+
+  void write_pathway(const PathwayRecord& pathway);
+
+  // Creates /traces/<population>/<variable>/{time,value,neuron}; returns a trace id.
+  int open_trace(const std::string& population, std::string_view variable, Dimension unit,
+                 std::span<const std::uint32_t> neurons);
+  void append_trace_row(int trace, double time, std::span<const double> values);
+
+  // Writes buffered rows to the file and flushes HDF5's caches.
+  void flush();
+  // Final status and model time reached; flushes and closes. Safe to call once.
+  void finish(RunStatus status, double model_time_reached);
+
+ private:
+  struct Impl;
+  std::unique_ptr<Impl> impl_;
+};
+
+}  // namespace nvsyn
