@@ -48,6 +48,7 @@ class ParamTable {
   const SourcePosition& where() const { return where_; }
   // Human description of the table, e.g. "population 'exc'".
   const std::string& context() const { return context_; }
+  void set_context(std::string context) { context_ = std::move(context); }
   std::vector<std::string> keys() const;
 
   // Required and defaulted accessors. All mark the key as used and throw UserError

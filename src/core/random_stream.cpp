@@ -59,12 +59,14 @@ double RandomStream::normal() {
 
 double RandomStream::exponential() { return -std::log(uniform()); }
 
+__extension__ typedef unsigned __int128 Uint128;
+
 std::uint64_t RandomStream::below(std::uint64_t n) {
   // Lemire's rejection keeps the draw unbiased for every n.
   const std::uint64_t limit = (0 - n) % n;
   for (;;) {
     const std::uint64_t b = bits64();
-    const unsigned __int128 m = static_cast<unsigned __int128>(b) * n;
+    const Uint128 m = static_cast<Uint128>(b) * n;
     if (static_cast<std::uint64_t>(m) >= limit) return static_cast<std::uint64_t>(m >> 64);
   }
 }

@@ -1,0 +1,209 @@
+#include "cli/commands.hpp"
+
+#include <atomic>
+#include <chrono>
+#include <csignal>
+#include <filesystem>
+#include <fmt/format.h>
+#include <unistd.h>
+
+#include "analysis/spike_statistics.hpp"
+#include "cli/progress.hpp"
+#include "core/error.hpp"
+#include "kernel/simulation.hpp"
+#include "model/model_reader.hpp"
+#include "record/run_writer.hpp"
+
+#ifndef NVSYN_VERSION
+#define NVSYN_VERSION "unknown"
+#endif
+
+namespace nvsyn::cli {
+namespace {
+
+std::atomic<bool> g_interrupted{false};
+extern "C" void on_interrupt(int) { g_interrupted.store(true); }
+
+double parse_duration_option(const std::string& text) {
+  std::string why;
+  auto q = parse_quantity(text, why);
+  if (!q) throw UserError({}, "--duration", why + "; expected a time such as \"2 s\"");
+  if (q->dimension != Dimension::time)
+    throw UserError({}, "--duration", fmt::format("\"{}\" is a {}, expected a time such as \"2 s\"", text, dimension_name(q->dimension)));
+  if (!(q->si_value > 0)) throw UserError({}, "--duration", "must be positive");
+  return q->si_value;
+}
+
+// The output folder must exist before any simulation work starts.
+void check_output_path(const std::string& output) {
+  namespace fs = std::filesystem;
+  const fs::path path(output);
+  const fs::path folder = path.has_parent_path() ? path.parent_path() : fs::path(".");
+  std::error_code ec;
+  if (!fs::is_directory(folder, ec))
+    throw UserError({output}, "-o", fmt::format("the folder '{}' does not exist", folder.string()));
+  if (fs::is_directory(path, ec)) throw UserError({output}, "-o", "is a folder; give a file name such as run.h5");
+  if (::access(folder.c_str(), W_OK) != 0)
+    throw UserError({output}, "-o", fmt::format("the folder '{}' is not writable", folder.string()));
+}
+
+// Streams what the kernel reports into the run file.
+class RunFileObserver final : public RunObserver {
+ public:
+  RunFileObserver(RunWriter& writer, const Simulation& sim, ProgressLine& progress)
+      : writer_(writer), progress_(progress) {
+    const Network& net = sim.network();
+    spike_stream_.assign(net.populations.size(), -1);
+    for (std::uint32_t p : sim.recorded_populations()) spike_stream_[p] = writer.open_spikes(net.populations[p].name);
+    for (const TraceStream& t : sim.traces())
+      trace_id_.push_back(writer.open_trace(net.populations[t.population].name, t.variable, t.dimension, t.neurons));
+    last_flush_ = std::chrono::steady_clock::now();
+  }
+  void on_spikes(std::uint32_t p, std::span<const double> times, std::span<const std::uint32_t> neurons) override {
+    writer_.append_spikes(spike_stream_[p], times, neurons);
+  }
+  void on_sample(std::uint32_t trace, double time, std::span<const double> values) override {
+    writer_.append_trace_row(trace_id_[trace], time, values);
+  }
+  void on_progress(double time) override {
+    progress_.update(time);
+    // A crash loses at most this much wall time of recording.
+    const auto now = std::chrono::steady_clock::now();
+    if (now - last_flush_ > std::chrono::seconds(10)) {
+      writer_.flush();
+      last_flush_ = now;
+    }
+  }
+
+ private:
+  RunWriter& writer_;
+  ProgressLine& progress_;
+  std::vector<int> spike_stream_;
+  std::vector<int> trace_id_;
+  std::chrono::steady_clock::time_point last_flush_;
+};
+
+void write_network(RunWriter& writer, const Simulation& sim, bool connectivity) {
+  const Network& net = sim.network();
+  for (const Population& p : net.populations)
+    writer.describe_population(p.name, p.size(), p.neurons->model_name());
+  for (const Pathway& path : net.pathways) {
+    std::vector<std::uint32_t> pre;
+    if (connectivity) pre = path.synapses.pre_indices();
+    PathwayRecord r;
+    r.name = path.name;
+    r.source = path.from;
+    r.target = path.to;
+    r.rule = "none";
+    r.device = "ideal";
+    r.receptor = path.receptor == Receptor::excitatory ? "excitatory" : "inhibitory";
+    if (connectivity) {
+      r.pre = pre;
+      r.post = path.synapses.post;
+      r.delay = path.synapses.delay;
+      r.weight = path.synapses.weight;
+    }
+    writer.write_pathway(r);
+  }
+}
+
+void print_summary_table(const std::vector<PopulationSummary>& rows) {
+  fmt::print("{:<20} {:>9} {:>10} {:>10} {:>8}\n", "population", "neurons", "spikes", "rate_hz", "cv_isi");
+  for (const auto& r : rows)
+    fmt::print("{:<20} {:>9} {:>10} {:>10.3f} {:>8.3f}\n", r.name, r.neurons, r.spikes, r.mean_rate_hz, r.cv_isi);
+}
+
+}  // namespace
+
+int run_command(const RunOptions& options) {
+  const Model model = read_model_file(options.model);
+  BuildOptions build;
+  build.seed = options.seed;
+  if (options.duration) build.duration = parse_duration_option(*options.duration);
+  check_output_path(options.output);
+  Simulation sim = Simulation::build(model, build);
+
+  // Write beside the target and move into place only when the run has ended,
+  // so the output path never holds a half-written file.
+  const std::string partial = fmt::format("{}.partial-{}", options.output, ::getpid());
+  RunSummary summary;
+  {
+    RunHeader header{NVSYN_VERSION, sim.seed(), sim.duration(), model.text, model.file};
+    RunWriter writer(partial, header);
+    try {
+      write_network(writer, sim, model.record.connectivity);
+      ProgressLine progress(sim.duration());
+      RunFileObserver observer(writer, sim, progress);
+      g_interrupted = false;
+      auto previous = std::signal(SIGINT, on_interrupt);
+      summary = sim.run(observer, &g_interrupted);
+      std::signal(SIGINT, previous);
+      progress.finish();
+      writer.finish(summary.reason == EndReason::complete ? RunStatus::complete : RunStatus::interrupted,
+                    summary.time_reached);
+    } catch (...) {
+      writer.finish(RunStatus::failed, 0.0);
+      std::filesystem::remove(partial);
+      throw;
+    }
+  }
+  std::filesystem::rename(partial, options.output);
+
+  const bool complete = summary.reason == EndReason::complete;
+  fmt::print("run file: {} ({})\n", options.output, complete ? "complete" : "interrupted");
+  fmt::print("model time {:g} s in {:.2f} s wall ({:.3g}x real time); {} synaptic events, {} input spikes\n",
+             summary.time_reached, summary.wall_seconds,
+             summary.wall_seconds > 0 ? summary.time_reached / summary.wall_seconds : 0.0,
+             summary.synaptic_events, summary.input_spikes);
+  if (!options.quiet) print_summary_table(summarise_run(options.output));
+  return complete ? 0 : 130;
+}
+
+int check_command(const std::string& model_path) {
+  const Model model = read_model_file(model_path);
+  Simulation sim = Simulation::build(model);
+  const Network& net = sim.network();
+  std::size_t bytes = 0;
+  fmt::print("model {}: OK\n", model_path);
+  fmt::print("simulation: {} of model time, seed {}, window (minimum delay) {}\n",
+             format_quantity(sim.duration(), Dimension::time), sim.seed(),
+             format_quantity(sim.window(), Dimension::time));
+  fmt::print("\npopulations\n");
+  for (const Population& p : net.populations) {
+    const std::size_t b = p.size() * p.neurons->bytes_per_neuron();
+    bytes += b;
+    fmt::print("  {:<20} {:>9} neurons  model {:<8} {} bytes/neuron\n", p.name, p.size(), p.neurons->model_name(),
+               p.neurons->bytes_per_neuron());
+  }
+  fmt::print("\ninputs\n");
+  if (sim.inputs().empty()) fmt::print("  (none)\n");
+  for (std::size_t i = 0; i < sim.inputs().size(); ++i) {
+    const InputGroup& in = sim.inputs()[i];
+    if (in.poisson)
+      fmt::print("  {:<20} {:>9} Poisson sources at {}\n", in.name, in.poisson->size(),
+                 format_quantity(in.poisson->rate(), Dimension::frequency));
+    else
+      fmt::print("  {:<20} injected current\n", in.name);
+  }
+  fmt::print("\npathways\n");
+  if (net.pathways.empty()) fmt::print("  (none)\n");
+  for (std::size_t i = 0; i < net.pathways.size(); ++i) {
+    const Pathway& p = net.pathways[i];
+    const PathwaySpec& spec = model.pathways[i];
+    bytes += p.synapses.bytes();
+    fmt::print("  {:<20} {} -> {} ({}, {})  {} synapses  weight {}  delay {}\n", p.name, p.from, p.to, p.wiring,
+               p.receptor == Receptor::excitatory ? "excitatory" : "inhibitory", p.synapses.size(),
+               spec.wiring == WiringRule::list ? "from list" : spec.weight.describe(Dimension::current),
+               spec.wiring == WiringRule::list ? "from list" : spec.delay.describe(Dimension::time));
+  }
+  fmt::print("\ntotal: {} neurons, {} synapses; estimated memory {:.1f} MiB\n", net.neuron_count(),
+             net.synapse_count(), static_cast<double>(bytes) / (1024.0 * 1024.0));
+  return 0;
+}
+
+int summary_command(const std::string& run_file) {
+  print_summary_table(summarise_run(run_file));
+  return 0;
+}
+
+}  // namespace nvsyn::cli

@@ -1,0 +1,38 @@
+#pragma once
+// Independent Poisson spike sources with a constant rate, active in [start, stop).
+//
+// Each source draws its inter-spike intervals (exponential, mean 1/rate) from its
+// own stream keyed by (seed, poisson, group, source), so its spike train does not
+// depend on window length, thread count or other sources.
+#include <cstdint>
+#include <utility>
+#include <vector>
+
+#include "core/random_stream.hpp"
+
+namespace nvsyn {
+
+struct SourceSpike {
+  double time = 0.0;
+  std::uint32_t source = 0;
+};
+
+class PoissonGroup {
+ public:
+  PoissonGroup(std::uint32_t size, double rate_hz, double start, double stop, std::uint64_t seed,
+               std::uint32_t group_id);
+
+  std::uint32_t size() const { return static_cast<std::uint32_t>(next_.size()); }
+  double rate() const { return rate_; }
+
+  // Appends the spikes in [t_begin, t_end) of every source; order within the
+  // window is by source, then time (the kernel sorts).
+  void emit(double t_end, std::vector<SourceSpike>& out);
+
+ private:
+  double rate_, stop_;
+  std::vector<double> next_;  // next spike time per source
+  std::vector<RandomStream> rng_;
+};
+
+}  // namespace nvsyn

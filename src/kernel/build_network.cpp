@@ -1,0 +1,213 @@
+// Turns a checked Model into a Simulation: neurons, inputs, synapses, traces.
+#include <algorithm>
+#include <fmt/format.h>
+#include <limits>
+
+#include "core/error.hpp"
+#include "kernel/simulation_state.hpp"
+#include "network/wiring.hpp"
+#include "neurons/registry.hpp"
+
+namespace nvsyn {
+namespace {
+
+std::uint64_t entity(std::uint32_t pathway, std::uint32_t neuron) {
+  return (std::uint64_t{pathway} << 32) | neuron;
+}
+
+void build_populations(const Model& model, Simulation::State& s) {
+  for (std::uint32_t i = 0; i < model.populations.size(); ++i) {
+    const PopulationSpec& spec = model.populations[i];
+    spec.table->mark_used("size");
+    spec.table->mark_used("neuron");
+    Population pop;
+    pop.name = spec.name;
+    pop.neurons = make_neuron_group(spec.neuron_model, spec.size, *spec.table, s.seed, i);
+    spec.table->reject_unknown_keys();
+    s.network.populations.push_back(std::move(pop));
+  }
+}
+
+void build_inputs(const Model& model, Simulation::State& s) {
+  for (std::uint32_t i = 0; i < model.inputs.size(); ++i) {
+    const InputSpec& spec = model.inputs[i];
+    InputGroup group;
+    group.name = spec.name;
+    if (spec.kind == InputKindSpec::poisson) {
+      group.poisson = std::make_unique<PoissonGroup>(spec.size, spec.rate, spec.start, spec.stop, s.seed, i);
+    } else {
+      std::uint32_t target = 0;
+      while (model.populations[target].name != spec.target) ++target;
+      std::vector<std::uint32_t> neurons = spec.neurons;
+      if (neurons.empty())
+        for (std::uint32_t n = 0; n < model.populations[target].size; ++n) neurons.push_back(n);
+      for (std::uint32_t n : neurons) {
+        double previous = 0.0;
+        for (const CurrentStep& step : spec.steps) {
+          s.currents.add(step.time, step.amplitude - previous, target, n);
+          previous = step.amplitude;
+        }
+      }
+    }
+    s.inputs.push_back(std::move(group));
+  }
+  s.currents.finalise();
+}
+
+GroupRef find_group(const Model& model, const std::string& name) {
+  for (std::uint32_t i = 0; i < model.populations.size(); ++i)
+    if (model.populations[i].name == name) return {false, i};
+  for (std::uint32_t i = 0; i < model.inputs.size(); ++i)
+    if (model.inputs[i].name == name) return {true, i};
+  throw InternalError(fmt::format("group '{}' vanished after model checking", name));
+}
+
+void build_pathway(const Model& model, std::uint32_t id, Simulation::State& s) {
+  const PathwaySpec& spec = model.pathways[id];
+  Pathway p;
+  p.name = spec.name;
+  p.from = spec.from;
+  p.to = spec.to;
+  p.source = find_group(model, spec.from);
+  p.target = find_group(model, spec.to).index;
+  p.receptor = spec.receptor == "inhibitory" ? Receptor::inhibitory : Receptor::excitatory;
+  p.wiring = std::string(wiring_rule_name(spec.wiring));
+
+  WiringContext c;
+  c.seed = s.seed;
+  c.pathway_id = id;
+  c.n_pre = p.source.is_input ? s.inputs[p.source.index].poisson->size()
+                              : s.network.populations[p.source.index].size();
+  c.n_post = s.network.populations[p.target].size();
+  c.same_group = !p.source.is_input && p.source.index == p.target;
+  c.self_connections = spec.self_connections;
+
+  std::vector<Edge> edges;
+  ConnectionList listed;
+  switch (spec.wiring) {
+    case WiringRule::one_to_one: edges = wire_one_to_one(c); break;
+    case WiringRule::all_to_all: edges = wire_all_to_all(c); break;
+    case WiringRule::random: edges = wire_random(c, spec.probability); break;
+    case WiringRule::in_degree: edges = wire_in_degree(c, spec.in_degree); break;
+    case WiringRule::list:
+      listed = read_connection_list(spec.list_file, c.n_pre, c.n_post);
+      if (!listed.has_weight && !spec.table->has("weight"))
+        throw spec.table->error("file", "the list has no weight column, so the pathway needs 'weight'");
+      if (!listed.has_delay && !spec.table->has("delay"))
+        throw spec.table->error("file", "the list has no delay column, so the pathway needs 'delay'");
+      for (const auto& row : listed.rows) edges.push_back(row.edge);
+      break;
+  }
+  p.synapses = SynapseStore::from_edges(c.n_pre, edges);
+
+  // Draw weights and delays per source neuron, in row order: independent of how
+  // sources are later distributed over threads or processes.
+  SynapseStore& st = p.synapses;
+  for (std::uint32_t pre = 0; pre < c.n_pre; ++pre) {
+    if (st.begin(pre) == st.end(pre)) continue;
+    RandomStream wr(s.seed, StreamPurpose::weights, entity(id, pre));
+    RandomStream dr(s.seed, StreamPurpose::delays, entity(id, pre));
+    for (std::uint64_t k = st.begin(pre); k < st.end(pre); ++k) {
+      st.weight[k] = spec.weight.draw(wr);
+      st.delay[k] = spec.delay.draw(dr);
+    }
+  }
+  if (spec.wiring == WiringRule::list && (listed.has_weight || listed.has_delay)) {
+    // from_edges keeps the list's order within each row; walk it the same way.
+    std::vector<std::uint64_t> fill(st.row_begin.begin(), st.row_begin.end() - 1);
+    for (const auto& row : listed.rows) {
+      const std::uint64_t k = fill[row.edge.pre]++;
+      if (listed.has_weight) {
+        const bool bad = p.receptor == Receptor::excitatory ? row.weight < 0 : row.weight > 0;
+        if (bad)
+          throw spec.table->error("file", fmt::format("{}: weight {} has the wrong sign for a {} pathway", spec.list_file, row.weight, spec.receptor));
+        st.weight[k] = row.weight;
+      }
+      if (listed.has_delay) st.delay[k] = row.delay;
+    }
+  }
+  s.network.pathways.push_back(std::move(p));
+}
+
+void build_traces(const Model& model, Simulation::State& s) {
+  for (const TraceSpec& spec : model.record.traces) {
+    std::uint32_t pop = 0;
+    while (model.populations[pop].name != spec.population) ++pop;
+    const auto vars = s.network.populations[pop].neurons->variables();
+    for (const std::string& name : spec.variables) {
+      auto it = std::find_if(vars.begin(), vars.end(), [&](const TraceVariable& v) { return v.name == name; });
+      if (it == vars.end()) {
+        std::string known;
+        for (const auto& v : vars) known += (known.empty() ? "" : ", ") + std::string(v.name);
+        throw spec.table->error("variables", fmt::format("model '{}' has no variable '{}'; it records {}",
+                                                         s.network.populations[pop].neurons->model_name(), name, known));
+      }
+      TraceStream t;
+      t.population = pop;
+      t.variable = name;
+      t.variable_index = static_cast<std::uint32_t>(it - vars.begin());
+      t.dimension = it->dimension;
+      t.neurons = spec.neurons;
+      t.interval = spec.interval;
+      s.traces.push_back(std::move(t));
+    }
+  }
+}
+
+}  // namespace
+
+Simulation Simulation::build(const Model& model, const BuildOptions& options) {
+  auto s = std::make_unique<State>();
+  s->seed = options.seed.value_or(model.simulation.seed);
+  s->duration = options.duration.value_or(model.simulation.duration);
+  build_populations(model, *s);
+  build_inputs(model, *s);
+  for (std::uint32_t id = 0; id < model.pathways.size(); ++id) {
+    try {
+      build_pathway(model, id, *s);
+    } catch (const UserError& e) {
+      throw e.with_context(fmt::format("while building pathway '{}'", model.pathways[id].name));
+    }
+  }
+  build_traces(model, *s);
+  for (const auto& name : model.record.spike_populations)
+    s->recorded_populations.push_back(find_group(model, name).index);
+
+  // Group-global ids and outgoing pathway lists.
+  const std::size_t groups = s->network.populations.size() + s->inputs.size();
+  s->group_offset.resize(groups + 1, 0);
+  for (std::size_t g = 0; g < groups; ++g) {
+    const std::uint32_t size = g < s->network.populations.size()
+                                   ? s->network.populations[g].size()
+                                   : (s->inputs[g - s->network.populations.size()].poisson
+                                          ? s->inputs[g - s->network.populations.size()].poisson->size()
+                                          : 0);
+    s->group_offset[g + 1] = s->group_offset[g] + size;
+  }
+  s->outgoing.resize(groups);
+  double d_min = std::numeric_limits<double>::infinity(), d_max = 0.0;
+  for (std::uint32_t id = 0; id < s->network.pathways.size(); ++id) {
+    const Pathway& p = s->network.pathways[id];
+    const std::size_t g = p.source.is_input ? s->network.populations.size() + p.source.index : p.source.index;
+    s->outgoing[g].push_back(id);
+    for (double d : p.synapses.delay) {
+      d_min = std::min(d_min, d);
+      d_max = std::max(d_max, d);
+    }
+  }
+  // Without synapses any window length is exact; 1 ms keeps progress reports regular.
+  if (!std::isfinite(d_min)) d_min = d_max = 1e-3;
+  s->network.min_delay = d_min;
+  s->network.max_delay = d_max;
+  s->window = d_min;
+  s->ring.resize(static_cast<std::size_t>(std::ceil(d_max / d_min)) + 2);
+  s->active.resize(s->network.populations.size());
+  for (std::uint32_t p = 0; p < s->network.populations.size(); ++p) {
+    const NeuronGroup& g = *s->network.populations[p].neurons;
+    for (std::uint32_t n = 0; n < g.size(); ++n)
+      if (g.may_fire_without_input(n)) s->active[p].push_back(n);
+  }
+  return Simulation(std::move(s));
+}
+
+}  // namespace nvsyn

@@ -1,0 +1,86 @@
+#pragma once
+// The event-driven simulation of a built network.
+//
+// Time advances in windows of length d_min, the smallest synaptic delay: a spike
+// emitted inside a window can only take effect in a later window, so within a
+// window every neuron is processed independently (the unit of work for threads
+// and of spike exchange between processes). Inside a neuron's window its inputs
+// are applied in (time, kind, source, pathway, synapse) order, so ties break the
+// same way on every run. Neurons that receive nothing and cannot fire on their own
+// are not visited. Spike times are exact: no global time grid exists.
+#include <atomic>
+#include <cstdint>
+#include <memory>
+#include <string>
+#include <vector>
+
+#include "inputs/current_schedule.hpp"
+#include "inputs/poisson_group.hpp"
+#include "model/model.hpp"
+#include "network/network.hpp"
+#include "network/run_observer.hpp"
+
+namespace nvsyn {
+
+struct BuildOptions {
+  std::optional<std::uint64_t> seed;      // overrides the model's seed
+  std::optional<double> duration;         // overrides the model's duration (s)
+};
+
+struct InputGroup {
+  std::string name;
+  std::unique_ptr<PoissonGroup> poisson;  // null for current inputs
+};
+
+// One recorded variable of one trace spec: the unit of RunObserver::on_sample.
+struct TraceStream {
+  std::uint32_t population = 0;
+  std::string variable;
+  std::uint32_t variable_index = 0;  // into NeuronGroup::variables()
+  Dimension dimension = Dimension::voltage;
+  std::vector<std::uint32_t> neurons;
+  double interval = 0.0;  // s
+};
+
+enum class EndReason { complete, interrupted };
+
+struct RunSummary {
+  EndReason reason = EndReason::complete;
+  double time_reached = 0.0;                   // s of model time
+  std::vector<std::uint64_t> spikes;           // per population
+  std::uint64_t input_spikes = 0;
+  std::uint64_t synaptic_events = 0;           // deliveries to neurons
+  std::uint64_t windows = 0;
+  double wall_seconds = 0.0;
+};
+
+class Simulation {
+ public:
+  // Builds the network from a checked model. Throws UserError for parameter problems.
+  static Simulation build(const Model& model, const BuildOptions& options = {});
+
+  Simulation(Simulation&&) noexcept;
+  Simulation& operator=(Simulation&&) noexcept;
+  ~Simulation();
+
+  // Runs from the current time to the model duration (or until *stop becomes true,
+  // checked once per window). Spikes of recorded populations and trace samples go
+  // to `observer`.
+  RunSummary run(RunObserver& observer, const std::atomic<bool>* stop = nullptr);
+
+  const Network& network() const;
+  const std::vector<InputGroup>& inputs() const;
+  const std::vector<TraceStream>& traces() const;
+  const std::vector<std::uint32_t>& recorded_populations() const;  // population indices
+  std::uint64_t seed() const;
+  double duration() const;
+  double window() const;  // s, the d_min window length
+
+  struct State;
+
+ private:
+  explicit Simulation(std::unique_ptr<State> state);
+  std::unique_ptr<State> state_;
+};
+
+}  // namespace nvsyn

@@ -1,0 +1,44 @@
+#pragma once
+// Internal state of a Simulation, shared by the builder and the event loop.
+#include <vector>
+
+#include "kernel/simulation.hpp"
+
+namespace nvsyn {
+
+// An event waiting for delivery to one neuron.
+struct PendingEvent {
+  double time = 0.0;
+  double amount = 0.0;            // A, for current changes
+  std::uint64_t synapse = 0;      // index in the pathway's store, for synaptic events
+  std::uint32_t population = 0;   // target
+  std::uint32_t neuron = 0;       // target, within its population
+  std::uint32_t source = 0;       // emitting group-global id (tie-breaking)
+  std::uint32_t pathway = 0;      // or sequence number of a current change / trace
+  std::uint32_t slot = 0;         // sample slot
+  InputKind kind = InputKind::synaptic;
+};
+
+struct Simulation::State {
+  Network network;
+  std::vector<InputGroup> inputs;
+  CurrentSchedule currents;
+  std::vector<TraceStream> traces;
+  std::vector<std::uint32_t> recorded_populations;
+  std::uint64_t seed = 0;
+  double duration = 0.0;
+  double window = 0.0;
+
+  // Group-global id offsets: population p's neurons start at group_offset[p];
+  // input i's sources at group_offset[P + i].
+  std::vector<std::uint32_t> group_offset;
+  // Pathway indices leaving each group (populations first, then inputs).
+  std::vector<std::vector<std::uint32_t>> outgoing;
+
+  // Event loop state.
+  std::uint64_t next_window = 0;
+  std::vector<std::vector<PendingEvent>> ring;  // one bucket per future window
+  std::vector<std::vector<std::uint32_t>> active;  // per population, sorted
+};
+
+}  // namespace nvsyn

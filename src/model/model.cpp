@@ -1,0 +1,28 @@
+#include "model/model.hpp"
+
+namespace nvsyn {
+
+const PopulationSpec* Model::find_population(const std::string& name) const {
+  for (const auto& p : populations)
+    if (p.name == name) return &p;
+  return nullptr;
+}
+
+const InputSpec* Model::find_input(const std::string& name) const {
+  for (const auto& i : inputs)
+    if (i.name == name) return &i;
+  return nullptr;
+}
+
+std::string_view wiring_rule_name(WiringRule rule) {
+  switch (rule) {
+    case WiringRule::one_to_one: return "one_to_one";
+    case WiringRule::all_to_all: return "all_to_all";
+    case WiringRule::random: return "random";
+    case WiringRule::in_degree: return "in_degree";
+    case WiringRule::list: return "list";
+  }
+  return "?";
+}
+
+}  // namespace nvsyn

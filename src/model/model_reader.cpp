@@ -1,0 +1,340 @@
+#include "model/model_reader.hpp"
+
+#include <algorithm>
+#include <cstring>
+#include <filesystem>
+#include <fmt/format.h>
+#include <fstream>
+#include <set>
+#include <sstream>
+#include <toml++/toml.h>
+
+namespace nvsyn {
+namespace {
+
+SourcePosition position_of(const toml::source_region& region, const std::string& file) {
+  return {file, static_cast<int>(region.begin.line), static_cast<int>(region.begin.column)};
+}
+
+ParamValue convert(const toml::node& node, const std::string& file, const std::string& context);
+
+std::shared_ptr<ParamTable> convert_table(const toml::table& table, const std::string& file,
+                                          const std::string& context) {
+  auto out = std::make_shared<ParamTable>(position_of(table.source(), file), context);
+  for (auto&& [key, node] : table) {
+    ParamValue v = convert(node, file, context);
+    // Point at the key: that is where a reader looks for "unknown key" and type errors.
+    v.where = position_of(key.source(), file);
+    if (v.where.line == 0) v.where = position_of(node.source(), file);
+    out->set(std::string(key.str()), std::move(v));
+  }
+  return out;
+}
+
+ParamValue convert(const toml::node& node, const std::string& file, const std::string& context) {
+  ParamValue v;
+  v.where = position_of(node.source(), file);
+  if (auto s = node.as_string()) v.value = s->get();
+  else if (auto i = node.as_integer()) v.value = i->get();
+  else if (auto d = node.as_floating_point()) v.value = d->get();
+  else if (auto b = node.as_boolean()) v.value = b->get();
+  else if (auto t = node.as_table()) v.value = convert_table(*t, file, context);
+  else if (auto a = node.as_array()) {
+    auto items = std::make_shared<ParamValue::Array>();
+    for (const auto& item : *a) items->push_back(convert(item, file, context));
+    v.value = items;
+  } else {
+    throw UserError(v.where, "", "dates and times are not used in model files");
+  }
+  return v;
+}
+
+// Named sub-tables of a section such as [population.exc], in file order.
+std::vector<std::pair<std::string, std::shared_ptr<const ParamTable>>> named_tables(
+    const ParamTable& root, const std::string& section, const std::string& singular) {
+  std::vector<std::pair<std::string, std::shared_ptr<const ParamTable>>> out;
+  const ParamValue* v = root.find(section);
+  if (!v) return out;
+  if (!v->is_table())
+    throw UserError(v->where, section,
+                    fmt::format("expected tables such as [{}.<name>], got a {}", section, v->type_name()));
+  const auto& t = *std::get<std::shared_ptr<ParamTable>>(v->value);
+  for (const auto& name : t.keys()) {
+    const ParamValue& item = t.value(name);
+    if (!item.is_table())
+      throw UserError(item.where, name,
+                      fmt::format("expected a table [{}.{}] describing a {}", section, name, singular));
+    auto sub = std::get<std::shared_ptr<ParamTable>>(item.value);
+    sub->set_context(fmt::format("{} '{}'", singular, name));
+    out.emplace_back(name, sub);
+  }
+  std::sort(out.begin(), out.end(), [](const auto& a, const auto& b) {
+    return std::pair(a.second->where().line, a.second->where().column) <
+           std::pair(b.second->where().line, b.second->where().column);
+  });
+  return out;
+}
+
+std::uint32_t positive_count(const ParamTable& t, const std::string& key) {
+  const std::int64_t n = t.integer(key);
+  if (n <= 0) throw t.error(key, fmt::format("must be a positive whole number, got {}", n));
+  if (n > std::int64_t{1} << 31) throw t.error(key, fmt::format("{} is too large", n));
+  return static_cast<std::uint32_t>(n);
+}
+
+std::vector<std::uint32_t> index_list(const ParamTable& t, const std::string& key) {
+  std::vector<std::uint32_t> out;
+  for (const ParamValue& item : t.array(key)) {
+    const auto* i = std::get_if<std::int64_t>(&item.value);
+    if (!i || *i < 0)
+      throw UserError(item.where, key, "expected a list of neuron indices (whole numbers >= 0)");
+    out.push_back(static_cast<std::uint32_t>(*i));
+  }
+  return out;
+}
+
+std::vector<std::string> name_list(const ParamTable& t, const std::string& key) {
+  std::vector<std::string> out;
+  for (const ParamValue& item : t.array(key)) {
+    if (!item.is_string()) throw UserError(item.where, key, "expected a list of names (strings)");
+    out.push_back(std::get<std::string>(item.value));
+  }
+  return out;
+}
+
+SimulationSpec read_simulation(const ParamTable& root) {
+  SimulationSpec sim;
+  const ParamValue* v = root.find("simulation");
+  if (!v) throw UserError(root.where(), "simulation", "missing [simulation] table with 'duration' and 'seed'");
+  auto t = root.table("simulation");
+  sim.duration = t->quantity("duration", Dimension::time);
+  if (!(sim.duration > 0)) throw t->error("duration", "must be positive");
+  const std::int64_t seed = t->integer_or("seed", 1);
+  if (seed < 0) throw t->error("seed", "must be a whole number >= 0");
+  sim.seed = static_cast<std::uint64_t>(seed);
+  t->reject_unknown_keys();
+  return sim;
+}
+
+void read_populations(const ParamTable& root, Model& model) {
+  for (auto& [name, t] : named_tables(root, "population", "population")) {
+    PopulationSpec p;
+    p.name = name;
+    p.size = positive_count(*t, "size");
+    p.neuron_model = t->text_or("neuron", "lif");
+    p.table = t;
+    model.populations.push_back(std::move(p));
+  }
+  if (model.populations.empty())
+    throw UserError(root.where(), "population", "the model has no population; add a table such as [population.exc]");
+}
+
+std::vector<CurrentStep> read_steps(const ParamTable& t) {
+  std::vector<CurrentStep> steps;
+  if (t.has("amplitude")) {
+    steps.push_back({0.0, t.quantity("amplitude", Dimension::current)});
+    if (t.has("steps")) throw t.error("steps", "give either 'amplitude' or 'steps', not both");
+    return steps;
+  }
+  const auto& items = t.array("steps");
+  for (const ParamValue& item : items) {
+    const auto* pair = std::get_if<std::shared_ptr<ParamValue::Array>>(&item.value);
+    if (!pair || (*pair)->size() != 2)
+      throw UserError(item.where, "steps", "each step is a pair [\"<time>\", \"<current>\"], e.g. [\"100 ms\", \"0.5 nA\"]");
+    CurrentStep s{ParamTable::to_quantity((**pair)[0], "steps", Dimension::time),
+                  ParamTable::to_quantity((**pair)[1], "steps", Dimension::current)};
+    if (s.time < 0) throw UserError(item.where, "steps", "step times must not be negative");
+    if (!steps.empty() && s.time <= steps.back().time)
+      throw UserError(item.where, "steps", "step times must increase");
+    steps.push_back(s);
+  }
+  if (steps.empty()) throw t.error("steps", "needs at least one step");
+  return steps;
+}
+
+void read_inputs(const ParamTable& root, Model& model) {
+  for (auto& [name, t] : named_tables(root, "input", "input")) {
+    InputSpec in;
+    in.name = name;
+    in.table = t;
+    if (model.find_population(name))
+      throw t->error("", fmt::format("input '{}' has the same name as a population", name));
+    const std::string kind = t->text("kind");
+    if (kind == "poisson") {
+      in.kind = InputKindSpec::poisson;
+      in.size = positive_count(*t, "size");
+      in.rate = t->quantity("rate", Dimension::frequency);
+      if (in.rate < 0) throw t->error("rate", "a rate cannot be negative");
+      in.start = t->quantity_or("start", Dimension::time, 0.0);
+      in.stop = t->quantity_or("stop", Dimension::time, -1.0);
+      if (in.start < 0) throw t->error("start", "must not be negative");
+      if (t->has("stop") && in.stop <= in.start) throw t->error("stop", "must be later than 'start'");
+    } else if (kind == "current") {
+      in.kind = InputKindSpec::current;
+      in.target = t->text("target");
+      const PopulationSpec* target = model.find_population(in.target);
+      if (!target) throw t->error("target", fmt::format("no population named '{}'", in.target));
+      if (t->has("neurons")) {
+        in.neurons = index_list(*t, "neurons");
+        for (auto n : in.neurons)
+          if (n >= target->size)
+            throw t->error("neurons", fmt::format("neuron {} is outside population '{}' of size {}", n, in.target, target->size));
+      }
+      in.steps = read_steps(*t);
+    } else {
+      throw t->error("kind", fmt::format("unknown input kind '{}'; expected poisson or current", kind));
+    }
+    t->reject_unknown_keys();
+    model.inputs.push_back(std::move(in));
+  }
+}
+
+std::uint32_t group_size(const Model& model, const std::string& name) {
+  if (auto p = model.find_population(name)) return p->size;
+  if (auto i = model.find_input(name)) return i->kind == InputKindSpec::poisson ? i->size : 0;
+  return 0;
+}
+
+void read_pathways(const ParamTable& root, Model& model, const std::string& file) {
+  for (auto& [name, t] : named_tables(root, "pathway", "pathway")) {
+    PathwaySpec p;
+    p.name = name;
+    p.table = t;
+    p.from = t->text("from");
+    p.to = t->text("to");
+    const InputSpec* input = model.find_input(p.from);
+    if (!model.find_population(p.from) && !input)
+      throw t->error("from", fmt::format("no population or input named '{}'", p.from));
+    if (input && input->kind != InputKindSpec::poisson)
+      throw t->error("from", fmt::format("input '{}' injects current and emits no spikes; it cannot start a pathway", p.from));
+    const PopulationSpec* target = model.find_population(p.to);
+    if (!target) throw t->error("to", fmt::format("no population named '{}'", p.to));
+    p.receptor = t->text_or("receptor", "excitatory");
+    if (p.receptor != "excitatory" && p.receptor != "inhibitory")
+      throw t->error("receptor", fmt::format("unknown receptor '{}'; expected excitatory or inhibitory", p.receptor));
+
+    const std::string wiring = t->text("wiring");
+    const std::uint32_t n_from = group_size(model, p.from), n_to = target->size;
+    if (wiring == "one_to_one") {
+      p.wiring = WiringRule::one_to_one;
+      if (n_from != n_to)
+        throw t->error("wiring", fmt::format("one_to_one needs equal sizes, but '{}' has {} and '{}' has {}", p.from, n_from, p.to, n_to));
+    } else if (wiring == "all_to_all") {
+      p.wiring = WiringRule::all_to_all;
+    } else if (wiring == "random") {
+      p.wiring = WiringRule::random;
+      p.probability = t->number("p");
+      if (!(p.probability >= 0.0 && p.probability <= 1.0))
+        throw t->error("p", fmt::format("a connection probability must lie in [0, 1], got {}", p.probability));
+    } else if (wiring == "in_degree") {
+      p.wiring = WiringRule::in_degree;
+      p.in_degree = positive_count(*t, "in_degree");
+      p.self_connections = t->flag_or("self_connections", false);
+      const std::uint32_t available = n_from - ((p.from == p.to && !p.self_connections) ? 1 : 0);
+      if (p.in_degree > available)
+        throw t->error("in_degree", fmt::format("{} inputs per neuron requested but '{}' offers only {}", p.in_degree, p.from, available));
+    } else if (wiring == "list") {
+      p.wiring = WiringRule::list;
+      const std::string list = t->text("file");
+      std::filesystem::path resolved = std::filesystem::path(file).parent_path() / list;
+      p.list_file = std::filesystem::path(list).is_absolute() ? list : resolved.string();
+    } else {
+      throw t->error("wiring", fmt::format("unknown wiring '{}'; expected one_to_one, all_to_all, random, in_degree or list", wiring));
+    }
+    if (p.wiring != WiringRule::in_degree) p.self_connections = t->flag_or("self_connections", false);
+
+    // Weights are current jumps; their sign follows the receptor.
+    if (p.wiring != WiringRule::list || t->has("weight")) {
+      p.weight = read_distribution(*t, "weight", Dimension::current);
+      const bool excitatory = p.receptor == "excitatory";
+      if (excitatory) {
+        if (p.weight.max_value() < 0) throw t->error("weight", "an excitatory weight must not be negative");
+        p.weight.low = std::max(p.weight.low, 0.0);
+      } else {
+        if (p.weight.min_value() > 0) throw t->error("weight", "an inhibitory weight must not be positive (write it with a minus sign)");
+        p.weight.high = std::min(p.weight.high, 0.0);
+      }
+    }
+    if (p.wiring != WiringRule::list || t->has("delay")) {
+      p.delay = read_distribution(*t, "delay", Dimension::time);
+      if (!(p.delay.min_value() > 0))
+        throw t->error("delay", p.delay.is_constant()
+                                    ? "delays must be positive (spikes need time to travel)"
+                                    : "a delay distribution must exclude zero: give 'low' > 0");
+    }
+    t->reject_unknown_keys();
+    model.pathways.push_back(std::move(p));
+  }
+}
+
+void read_record(const ParamTable& root, Model& model) {
+  for (const auto& p : model.populations) model.record.spike_populations.push_back(p.name);
+  if (!root.has("record")) return;
+  auto t = root.table("record");
+  if (t->has("spikes")) {
+    model.record.spike_populations = name_list(*t, "spikes");
+    for (const auto& name : model.record.spike_populations)
+      if (!model.find_population(name)) throw t->error("spikes", fmt::format("no population named '{}'", name));
+  }
+  model.record.connectivity = t->flag_or("connectivity", true);
+  if (t->has("trace")) {
+    const ParamValue& traces = t->value("trace");
+    if (!traces.is_table()) throw UserError(traces.where, "trace", "expected tables such as [record.trace.<name>]");
+    auto& tt = *std::get<std::shared_ptr<ParamTable>>(traces.value);
+    for (const auto& name : tt.keys()) {
+      auto trace_table = tt.table(name);
+      TraceSpec s;
+      s.table = trace_table;
+      s.population = trace_table->text("population");
+      const PopulationSpec* pop = model.find_population(s.population);
+      if (!pop) throw trace_table->error("population", fmt::format("no population named '{}'", s.population));
+      s.variables = trace_table->has("variables") ? name_list(*trace_table, "variables") : std::vector<std::string>{"v"};
+      s.neurons = index_list(*trace_table, "neurons");
+      for (auto n : s.neurons)
+        if (n >= pop->size) throw trace_table->error("neurons", fmt::format("neuron {} is outside population '{}' of size {}", n, s.population, pop->size));
+      s.interval = trace_table->quantity("interval", Dimension::time);
+      if (!(s.interval > 0)) throw trace_table->error("interval", "must be positive");
+      trace_table->reject_unknown_keys();
+      model.record.traces.push_back(std::move(s));
+    }
+  }
+  t->reject_unknown_keys();
+}
+
+}  // namespace
+
+Model read_model_text(const std::string& text, const std::string& file_name) {
+  toml::table doc;
+  try {
+    doc = toml::parse(text, file_name);
+  } catch (const toml::parse_error& e) {
+    throw UserError(position_of(e.source(), file_name), "", fmt::format("TOML syntax: {}", e.description()));
+  }
+  Model model;
+  model.file = file_name;
+  model.text = text;
+  auto root = convert_table(doc, file_name, "");
+  root->mark_used("population");
+  root->mark_used("input");
+  root->mark_used("pathway");
+  root->mark_used("record");
+  model.simulation = read_simulation(*root);
+  read_populations(*root, model);
+  read_inputs(*root, model);
+  read_pathways(*root, model, file_name);
+  read_record(*root, model);
+  root->reject_unknown_keys();
+  return model;
+}
+
+Model read_model_file(const std::string& path) {
+  std::error_code ec;
+  if (std::filesystem::is_directory(path, ec)) throw UserError({path}, "", "is a folder, not a model file");
+  std::ifstream in(path, std::ios::binary);
+  if (!in) throw UserError({path}, "", fmt::format("cannot read the model file: {}", std::strerror(errno)));
+  std::ostringstream text;
+  text << in.rdbuf();
+  return read_model_text(text.str(), path);
+}
+
+}  // namespace nvsyn

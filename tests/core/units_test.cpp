@@ -1,0 +1,54 @@
+#include <catch2/catch.hpp>
+
+#include "core/units.hpp"
+
+using namespace nvsyn;
+
+namespace {
+Quantity parse_ok(const char* text) {
+  std::string why;
+  auto q = parse_quantity(text, why);
+  INFO(text << ": " << why);
+  REQUIRE(q.has_value());
+  return *q;
+}
+std::string parse_error(const char* text) {
+  std::string why;
+  REQUIRE_FALSE(parse_quantity(text, why).has_value());
+  return why;
+}
+}  // namespace
+
+TEST_CASE("quantities convert to SI with their dimension", "[units]") {
+  CHECK(parse_ok("20 ms").si_value == Approx(0.020).epsilon(1e-15));
+  CHECK(parse_ok("20 ms").dimension == Dimension::time);
+  CHECK(parse_ok("-65 mV").si_value == Approx(-0.065).epsilon(1e-15));
+  CHECK(parse_ok("0.3 nA").dimension == Dimension::current);
+  CHECK(parse_ok("1.5 uS").si_value == Approx(1.5e-6).epsilon(1e-15));
+  CHECK(parse_ok("1.5 uS").dimension == Dimension::conductance);
+  CHECK(parse_ok("5Hz").si_value == 5.0);
+  CHECK(parse_ok("250 pF").dimension == Dimension::capacitance);
+  CHECK(parse_ok("2 h").si_value == 7200.0);
+  CHECK(parse_ok("1 yr").si_value == Approx(365.25 * 86400.0));
+  CHECK(parse_ok("100 MOhm").si_value == Approx(1e8));
+  CHECK(parse_ok("3 pJ").dimension == Dimension::energy);
+  // milli-siemens and milliseconds differ only by case
+  CHECK(parse_ok("2 mS").dimension == Dimension::conductance);
+  CHECK(parse_ok("2 ms").dimension == Dimension::time);
+}
+
+TEST_CASE("malformed quantities are rejected with a reason", "[units]") {
+  CHECK_THAT(parse_error("20"), Catch::Contains("no unit"));
+  CHECK_THAT(parse_error("ms"), Catch::Contains("number"));
+  CHECK_THAT(parse_error("20 parsecs"), Catch::Contains("unknown unit"));
+  CHECK_THAT(parse_error("nan ms"), Catch::Contains("finite"));
+  CHECK_THAT(parse_error("inf mV"), Catch::Contains("finite"));
+  CHECK_THAT(parse_error(""), Catch::Contains("empty"));
+}
+
+TEST_CASE("format_quantity picks a readable prefix", "[units]") {
+  CHECK(format_quantity(0.02, Dimension::time) == "20 ms");
+  CHECK(format_quantity(-0.065, Dimension::voltage) == "-65 mV");
+  CHECK(format_quantity(0.0, Dimension::current) == "0 A");
+  CHECK(format_quantity(3e-10, Dimension::current) == "300 pA");
+}
