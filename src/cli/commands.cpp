@@ -30,8 +30,8 @@ double parse_duration_option(const std::string& text) {
   if (!q) throw UserError({}, "--duration", why + "; expected a time such as \"2 s\"");
   if (q->dimension != Dimension::time)
     throw UserError({}, "--duration", fmt::format("\"{}\" is a {}, expected a time such as \"2 s\"", text, dimension_name(q->dimension)));
-  if (!(q->si_value > 0)) throw UserError({}, "--duration", "must be positive");
-  return q->si_value;
+  if (!(q->value_si > 0)) throw UserError({}, "--duration", "must be positive");
+  return q->value_si;
 }
 
 // The output folder must exist before any simulation work starts.

@@ -68,7 +68,7 @@ double ParamTable::to_quantity(const ParamValue& v, const std::string& key, Dime
   if (!q) throw wrong(why);
   if (q->dimension != dim)
     throw wrong(fmt::format("\"{}\" is a {}", *s, dimension_name(q->dimension)));
-  return q->si_value;
+  return q->value_si;
 }
 
 double ParamTable::quantity(const std::string& key, Dimension dim) const {

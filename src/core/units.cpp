@@ -130,23 +130,23 @@ std::optional<Quantity> parse_quantity(std::string_view text, std::string& why) 
     why = fmt::format("unknown unit '{}' in '{}'", unit, s);
     return std::nullopt;
   }
-  return Quantity{number * factor->si_value, factor->dimension};
+  return Quantity{number * factor->value_si, factor->dimension};
 }
 
-std::string format_quantity(double si_value, Dimension d) {
-  if (d == Dimension::dimensionless) return fmt::format("{:g}", si_value);
+std::string format_quantity(double value_si, Dimension d) {
+  if (d == Dimension::dimensionless) return fmt::format("{:g}", value_si);
   std::string_view base;
   for (const auto& b : kBaseUnits)
     if (b.dimension == d) base = b.symbol;
-  const double magnitude = std::fabs(si_value);
+  const double magnitude = std::fabs(value_si);
   if (magnitude == 0.0) return fmt::format("0 {}", base);
   for (const auto& prefix : kPrefixes) {
     if (prefix.symbol == "\xC2\xB5" || prefix.factor > 1e9) continue;
     if (magnitude >= prefix.factor || prefix.factor == 1e-15)
       if (magnitude < prefix.factor * 1000.0 || prefix.factor == 1e9)
-        return fmt::format("{:g} {}{}", si_value / prefix.factor, prefix.symbol, base);
+        return fmt::format("{:g} {}{}", value_si / prefix.factor, prefix.symbol, base);
   }
-  return fmt::format("{:g} {}", si_value, base);
+  return fmt::format("{:g} {}", value_si, base);
 }
 
 }  // namespace nvsyn

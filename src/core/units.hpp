@@ -26,7 +26,7 @@ std::string_view dimension_name(Dimension d);
 std::string_view example_unit(Dimension d);
 
 struct Quantity {
-  double si_value = 0.0;
+  double value_si = 0.0;
   Dimension dimension = Dimension::dimensionless;
 };
 
@@ -36,6 +36,6 @@ struct Quantity {
 std::optional<Quantity> parse_quantity(std::string_view text, std::string& why);
 
 // Formats an SI value with a readable prefix, e.g. 0.02 s -> "20 ms".
-std::string format_quantity(double si_value, Dimension d);
+std::string format_quantity(double value_si, Dimension d);
 
 }  // namespace nvsyn

@@ -20,17 +20,17 @@ std::string parse_error(const char* text) {
 }  // namespace
 
 TEST_CASE("quantities convert to SI with their dimension", "[units]") {
-  CHECK(parse_ok("20 ms").si_value == Approx(0.020).epsilon(1e-15));
+  CHECK(parse_ok("20 ms").value_si == Approx(0.020).epsilon(1e-15));
   CHECK(parse_ok("20 ms").dimension == Dimension::time);
-  CHECK(parse_ok("-65 mV").si_value == Approx(-0.065).epsilon(1e-15));
+  CHECK(parse_ok("-65 mV").value_si == Approx(-0.065).epsilon(1e-15));
   CHECK(parse_ok("0.3 nA").dimension == Dimension::current);
-  CHECK(parse_ok("1.5 uS").si_value == Approx(1.5e-6).epsilon(1e-15));
+  CHECK(parse_ok("1.5 uS").value_si == Approx(1.5e-6).epsilon(1e-15));
   CHECK(parse_ok("1.5 uS").dimension == Dimension::conductance);
-  CHECK(parse_ok("5Hz").si_value == 5.0);
+  CHECK(parse_ok("5Hz").value_si == 5.0);
   CHECK(parse_ok("250 pF").dimension == Dimension::capacitance);
-  CHECK(parse_ok("2 h").si_value == 7200.0);
-  CHECK(parse_ok("1 yr").si_value == Approx(365.25 * 86400.0));
-  CHECK(parse_ok("100 MOhm").si_value == Approx(1e8));
+  CHECK(parse_ok("2 h").value_si == 7200.0);
+  CHECK(parse_ok("1 yr").value_si == Approx(365.25 * 86400.0));
+  CHECK(parse_ok("100 MOhm").value_si == Approx(1e8));
   CHECK(parse_ok("3 pJ").dimension == Dimension::energy);
   // milli-siemens and milliseconds differ only by case
   CHECK(parse_ok("2 mS").dimension == Dimension::conductance);
