@@ -127,6 +127,9 @@ LifGroup::LifGroup(std::uint32_t size, LifParameters params, std::uint64_t seed,
       i_injected_(size, 0.0),
       t_last_(size, 0.0),
       refractory_until_(size, -1.0) {
+  const LifTrajectory unit(p_, {0.0, 0.0, 0.0}, 0.0);
+  kernel_peak_[0] = unit.kernel_peak(0);
+  kernel_peak_[1] = unit.kernel_peak(1);
   for (std::uint32_t n = 0; n < size; ++n) {
     RandomStream rng(seed, StreamPurpose::initial_state, (std::uint64_t{population_id} << 32) | n);
     v_[n] = p_.v_init.draw(rng);
@@ -157,8 +160,19 @@ void LifGroup::advance(std::uint32_t n, double t) {
   t_last_[n] = t;
 }
 
+double LifGroup::cheap_upper_bound(std::uint32_t n) const {
+  // V(s) <= max(V_0, V_inf) + sum over positive currents of (I_x / C) max K_x:
+  // the drive term moves monotonically from V_0 to V_inf, K_x >= 0 peaks at kernel_peak_,
+  // and negative currents only lower V. During refractoriness V_0 is v_reset.
+  const double v0 = t_last_[n] < refractory_until_[n] ? p_.v_reset : v_[n];
+  const double v_inf = p_.v_rest + p_.resistance() * (p_.bias + i_injected_[n]);
+  return std::max(v0, v_inf) +
+         (std::max(i_exc_[n], 0.0) * kernel_peak_[0] + std::max(i_inh_[n], 0.0) * kernel_peak_[1]) / p_.capacitance;
+}
+
 void LifGroup::fire_until(std::uint32_t n, double t_limit, std::vector<double>& spikes) {
   for (;;) {
+    if (cheap_upper_bound(n) < p_.v_threshold) return;
     if (t_last_[n] < refractory_until_[n]) {
       if (refractory_until_[n] >= t_limit) return;
       advance(n, refractory_until_[n]);
@@ -207,12 +221,7 @@ void LifGroup::process(std::uint32_t n, std::span<const NeuronInput> inputs, dou
 
 bool LifGroup::may_fire_without_input(std::uint32_t n) const {
   // Upper bound of V over [t_last, infinity) without further input.
-  const double drive = p_.bias + i_injected_[n];
-  if (p_.v_rest + p_.resistance() * drive >= p_.v_threshold) return true;
-  LifTrajectory traj(p_, {v_[n], i_exc_[n], i_inh_[n]}, drive);
-  // Beyond both kernel peaks and many tau_m the bound only falls; 50 tau covers it.
-  const double far = 50.0 * std::max({p_.tau_m, p_.tau_exc, p_.tau_inh});
-  return traj.v_upper_bound(0.0, far) >= p_.v_threshold;
+  return cheap_upper_bound(n) >= p_.v_threshold;
 }
 
 std::span<const TraceVariable> LifGroup::variables() const {

@@ -64,6 +64,8 @@ class LifTrajectory {
   double v_upper_bound(double a, double b) const;
   // First s in (0, horizon) with V(s) >= threshold, if any.
   std::optional<double> first_crossing(double threshold, double horizon) const;
+  // Largest value of the kernel K_c over all s >= 0 (at its peak), in s.
+  double kernel_peak(int channel) const { return kernel(channel, peak_s_[channel]); }
 
  private:
   double kernel(int channel, double s) const;
@@ -93,8 +95,11 @@ class LifGroup final : public NeuronGroup {
  private:
   void advance(std::uint32_t n, double t);
   void fire_until(std::uint32_t n, double t_limit, std::vector<double>& spikes);
+  // Upper bound of V over all future times without further input; costs no exp().
+  double cheap_upper_bound(std::uint32_t n) const;
 
   LifParameters p_;
+  double kernel_peak_[2];  // s, maxima of K_exc and K_inh
   // structure of arrays, one entry per neuron
   std::vector<double> v_, i_exc_, i_inh_, i_injected_, t_last_, refractory_until_;
 };
