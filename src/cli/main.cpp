@@ -36,6 +36,16 @@ int main(int argc, char** argv) {
   auto* summary_cmd = app.add_subcommand("summary", "Per-population neurons, spikes, mean rate and CV of inter-spike intervals");
   summary_cmd->add_option("run_file", summary_file, "Run file (HDF5) written by 'nvsyn run'")->required();
 
+  // CLI11 answers a mistyped command with "A subcommand is required"; name it instead.
+  if (argc > 1 && argv[1][0] != '-') {
+    const std::string given = argv[1];
+    const bool known = run_cmd->check_name(given) || check_cmd->check_name(given) || summary_cmd->check_name(given);
+    if (!known) {
+      fmt::print(stderr, "error: unknown command '{}'; expected run, check or summary (see nvsyn --help)\n", given);
+      return 2;
+    }
+  }
+
   try {
     app.parse(argc, argv);
   } catch (const CLI::CallForHelp& e) {
@@ -45,7 +55,9 @@ int main(int argc, char** argv) {
   } catch (const CLI::Success& e) {
     return app.exit(e);
   } catch (const CLI::ParseError& e) {
-    app.exit(e);
+    // A command-line mistake is a user error: same form and exit status as the others.
+    fmt::print(stderr, "{}\nRun 'nvsyn --help' or 'nvsyn <command> --help' for usage.\n",
+               nvsyn::format_user_error({}, "", e.what()));
     return 2;
   }
 

@@ -40,8 +40,23 @@ const ParamValue* ParamTable::find(const std::string& key) const {
 
 const ParamValue& ParamTable::value(const std::string& key) const {
   const ParamValue* v = find(key);
-  if (!v) throw error(key, "missing required key");
-  return *v;
+  if (v) return *v;
+  // A misspelt required key is reported here, before reject_unknown_keys() could
+  // see it: point at the closest key nobody has read, if there is one.
+  const std::pair<const std::string, ParamValue>* near = nullptr;
+  std::size_t near_distance = 0;
+  for (const auto& entry : entries_) {
+    if (used_.count(entry.first)) continue;
+    const std::size_t d = edit_distance(key, entry.first);
+    if (d <= std::max<std::size_t>(2, key.size() / 3) && (!near || d < near_distance)) {
+      near = &entry;
+      near_distance = d;
+    }
+  }
+  if (!near) throw error(key, "missing required key");
+  std::string text = fmt::format("missing required key; is '{}' a misspelling of it?", near->first);
+  if (!context_.empty()) text += fmt::format(" (in {})", context_);
+  throw UserError(near->second.where, key, text);
 }
 
 double ParamTable::to_quantity(const ParamValue& v, const std::string& key, Dimension dim) {

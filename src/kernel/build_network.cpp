@@ -166,7 +166,10 @@ Simulation Simulation::build(const Model& model, const BuildOptions& options) {
     try {
       build_pathway(model, id, *s);
     } catch (const UserError& e) {
-      throw e.with_context(fmt::format("while building pathway '{}'", model.pathways[id].name));
+      // Errors from the pathway's own table already say which pathway they are in.
+      const std::string name = fmt::format("pathway '{}'", model.pathways[id].name);
+      if (e.message().find(name) != std::string::npos) throw;
+      throw e.with_context("while building " + name);
     }
   }
   build_traces(model, *s);

@@ -16,13 +16,36 @@ SourcePosition position_of(const toml::source_region& region, const std::string&
   return {file, static_cast<int>(region.begin.line), static_cast<int>(region.begin.column)};
 }
 
-ParamValue convert(const toml::node& node, const std::string& file, const std::string& context);
+// When a string lacks its closing quote the parser speaks of control characters
+// (the string runs into the line break); a hint names the likely cause.
+std::string syntax_hint(const std::string& text, int line) {
+  std::istringstream in(text);
+  std::string row;
+  for (int k = 0; k < line && std::getline(in, row); ++k) {
+  }
+  char open = 0;  // the quote of the string being scanned, 0 outside strings
+  for (std::size_t i = 0; i < row.size(); ++i) {
+    const char c = row[i];
+    if (!open) {
+      if (c == '#') break;
+      if (c == '"' || c == '\'') open = c;
+    } else if (c == '\\' && open == '"') {
+      ++i;
+    } else if (c == open) {
+      open = 0;
+    }
+  }
+  return open ? fmt::format("; is the closing {} missing on this line?", open) : "";
+}
+
+ParamValue convert(const toml::node& node, const std::string& key, const std::string& file,
+                   const std::string& context);
 
 std::shared_ptr<ParamTable> convert_table(const toml::table& table, const std::string& file,
                                           const std::string& context) {
   auto out = std::make_shared<ParamTable>(position_of(table.source(), file), context);
   for (auto&& [key, node] : table) {
-    ParamValue v = convert(node, file, context);
+    ParamValue v = convert(node, std::string(key.str()), file, context);
     // Point at the key: that is where a reader looks for "unknown key" and type errors.
     v.where = position_of(key.source(), file);
     if (v.where.line == 0) v.where = position_of(node.source(), file);
@@ -31,7 +54,9 @@ std::shared_ptr<ParamTable> convert_table(const toml::table& table, const std::s
   return out;
 }
 
-ParamValue convert(const toml::node& node, const std::string& file, const std::string& context) {
+// `key` names the value in messages (array items carry their array's key).
+ParamValue convert(const toml::node& node, const std::string& key, const std::string& file,
+                   const std::string& context) {
   ParamValue v;
   v.where = position_of(node.source(), file);
   if (auto s = node.as_string()) v.value = s->get();
@@ -41,10 +66,11 @@ ParamValue convert(const toml::node& node, const std::string& file, const std::s
   else if (auto t = node.as_table()) v.value = convert_table(*t, file, context);
   else if (auto a = node.as_array()) {
     auto items = std::make_shared<ParamValue::Array>();
-    for (const auto& item : *a) items->push_back(convert(item, file, context));
+    for (const auto& item : *a) items->push_back(convert(item, key, file, context));
     v.value = items;
   } else {
-    throw UserError(v.where, "", "dates and times are not used in model files");
+    throw UserError(v.where, key,
+                    "dates and times of day are not used in model files (a duration is a quoted quantity such as \"20 ms\")");
   }
   return v;
 }
@@ -105,7 +131,9 @@ std::vector<std::string> name_list(const ParamTable& t, const std::string& key) 
 SimulationSpec read_simulation(const ParamTable& root) {
   SimulationSpec sim;
   const ParamValue* v = root.find("simulation");
-  if (!v) throw UserError(root.where(), "simulation", "missing [simulation] table with 'duration' and 'seed'");
+  if (!v)
+    throw UserError(root.where(), "simulation",
+                    "the model has no [simulation] table; add one with a 'duration' such as \"1 s\" (and optionally a 'seed')");
   auto t = root.table("simulation");
   sim.duration = t->quantity("duration", Dimension::time);
   if (!(sim.duration > 0)) throw t->error("duration", "must be positive");
@@ -145,7 +173,9 @@ std::vector<CurrentStep> read_steps(const ParamTable& t) {
                   ParamTable::to_quantity((**pair)[1], "steps", Dimension::current)};
     if (s.time < 0) throw UserError(item.where, "steps", "step times must not be negative");
     if (!steps.empty() && s.time <= steps.back().time)
-      throw UserError(item.where, "steps", "step times must increase");
+      throw UserError(item.where, "steps", fmt::format("step times must increase, but {} follows {}",
+                                                       format_quantity(s.time, Dimension::time),
+                                                       format_quantity(steps.back().time, Dimension::time)));
     steps.push_back(s);
   }
   if (steps.empty()) throw t.error("steps", "needs at least one step");
@@ -238,6 +268,10 @@ void read_pathways(const ParamTable& root, Model& model, const std::string& file
       const std::string list = t->text("file");
       std::filesystem::path resolved = std::filesystem::path(file).parent_path() / list;
       p.list_file = std::filesystem::path(list).is_absolute() ? list : resolved.string();
+      std::error_code ec;
+      if (!std::filesystem::is_regular_file(p.list_file, ec))
+        throw t->error("file", fmt::format("no connection list at '{}'{}", p.list_file,
+                                           std::filesystem::path(list).is_absolute() ? "" : " (relative paths start at the model file's folder)"));
     } else {
       throw t->error("wiring", fmt::format("unknown wiring '{}'; expected one_to_one, all_to_all, random, in_degree or list", wiring));
     }
@@ -308,7 +342,8 @@ Model read_model_text(const std::string& text, const std::string& file_name) {
   try {
     doc = toml::parse(text, file_name);
   } catch (const toml::parse_error& e) {
-    throw UserError(position_of(e.source(), file_name), "", fmt::format("TOML syntax: {}", e.description()));
+    const SourcePosition where = position_of(e.source(), file_name);
+    throw UserError(where, "", fmt::format("TOML syntax: {}{}", e.description(), syntax_hint(text, where.line)));
   }
   Model model;
   model.file = file_name;

@@ -114,7 +114,7 @@ double column_unit(const std::string& header, Dimension dim, const SourcePositio
   if (!q) throw UserError(where, header, why);
   if (q->dimension != dim)
     throw UserError(where, header, fmt::format("unit is a {}, expected a {}", dimension_name(q->dimension), dimension_name(dim)));
-  return q->si_value;
+  return q->value_si;
 }
 
 }  // namespace

@@ -23,13 +23,13 @@ LifParameters LifParameters::from_table(const ParamTable& t) {
   p.v_init = t.has("v_init") ? read_distribution(t, "v_init", Dimension::voltage)
                              : Distribution::constant(p.v_rest);
 
-  auto positive = [&](const char* key, double v) {
-    if (!(v > 0)) throw t.error(key, fmt::format("must be positive, got {}", v));
+  auto positive = [&](const char* key, double v, Dimension dim) {
+    if (!(v > 0)) throw t.error(key, fmt::format("must be positive, got {}", format_quantity(v, dim)));
   };
-  positive("tau_m", p.tau_m);
-  positive("capacitance", p.capacitance);
-  positive("tau_exc", p.tau_exc);
-  positive("tau_inh", p.tau_inh);
+  positive("tau_m", p.tau_m, Dimension::time);
+  positive("capacitance", p.capacitance, Dimension::capacitance);
+  positive("tau_exc", p.tau_exc, Dimension::time);
+  positive("tau_inh", p.tau_inh, Dimension::time);
   if (p.refractory < 0) throw t.error("refractory", "must not be negative");
   if (!(p.v_threshold > p.v_reset))
     throw t.error(t.has("v_threshold") ? "v_threshold" : "v_reset",

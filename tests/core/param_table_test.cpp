@@ -46,3 +46,10 @@ TEST_CASE("distributions are read, clipped and drawn reproducibly", "[params]") 
     REQUIRE(x == d.draw(b));
   }
 }
+
+TEST_CASE("a misspelt required key points at the misspelling", "[params]") {
+  ParamTable t({"m.toml", 1, 1}, "");
+  t.set("sdd", ParamValue{std::string("1 ms"), SourcePosition{"m.toml", 7, 3}});
+  CHECK_THROWS_WITH(t.quantity("sd", Dimension::time),
+                    Catch::Contains("m.toml:7:3") && Catch::Contains("'sd'") && Catch::Contains("'sdd'"));
+}
