@@ -1,0 +1,72 @@
+#pragma once
+// Programming policies: the bridge from a requested weight change (what a learning
+// rule asks for, in A) to pulses on the synapse's devices.
+//
+//   nearest     n = round(|dw| / step): updates below half a step are lost
+//               (the "vanishing update" effect of low-resolution devices);
+//   stochastic  n = floor(x) + Bernoulli(x - floor(x)), x = |dw| / step:
+//               unbiased in expectation for a device with uniform steps;
+//   accumulate  a high-precision accumulator per synapse gathers requests and
+//               whole steps are programmed when it exceeds one step.
+// `max_pulses` caps the pulses of one update (0: no cap). The step is the device's
+// expected step at its present state, so state-dependent devices are handled.
+// Ideal (continuous) devices take every request exactly.
+//
+// Every update reports requested and realised change; per-synapse totals and
+// pathway-wide statistics are kept in the ledger for the run file.
+#include <cstdint>
+#include <string>
+#include <vector>
+
+#include "core/param_table.hpp"
+#include "devices/synapse_devices.hpp"
+
+namespace nvsyn {
+
+enum class Rounding : std::uint8_t { nearest, stochastic, accumulate };
+std::string_view rounding_name(Rounding r);
+
+struct PolicyParameters {
+  Rounding rounding = Rounding::stochastic;
+  std::uint32_t max_pulses = 0;
+  static PolicyParameters from_table(const ParamTable& table);
+};
+
+struct UpdateOutcome {
+  double requested = 0.0;  // A
+  double realised = 0.0;   // A, change of the programmed weight
+  std::uint32_t pulses = 0;
+  UpdateRoute route = UpdateRoute::none;
+  bool refreshed = false;
+};
+
+// Per-synapse and pathway-wide record of requested versus realised change.
+struct UpdateLedger {
+  std::vector<double> requested;  // A, per synapse, summed over updates
+  std::vector<double> realised;   // A, per synapse
+  std::vector<std::uint32_t> updates;
+  std::uint64_t total_updates = 0, total_pulses = 0, routed_partner = 0, unrealisable = 0;
+  double sum_requested = 0, sum_realised = 0, sum_squared_error = 0;
+};
+
+class ProgrammingPolicy {
+ public:
+  ProgrammingPolicy(const PolicyParameters& params, std::size_t synapses, std::uint64_t seed,
+                    std::uint32_t pathway_id);
+
+  UpdateOutcome apply(SynapseDevices& synapses, std::size_t k, double dw, double t);
+  const UpdateLedger& ledger() const { return ledger_; }
+  const PolicyParameters& parameters() const { return p_; }
+  double accumulator(std::size_t k) const { return accumulator_.empty() ? 0.0 : accumulator_[k]; }
+
+ private:
+  void record(std::size_t k, const UpdateOutcome& o);
+
+  PolicyParameters p_;
+  std::uint64_t seed_;
+  std::uint32_t pathway_id_;
+  std::vector<double> accumulator_;  // A, accumulate mode only
+  UpdateLedger ledger_;
+};
+
+}  // namespace nvsyn
