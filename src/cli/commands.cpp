@@ -9,7 +9,9 @@
 
 #include "analysis/spike_statistics.hpp"
 #include "cli/progress.hpp"
+#include "cli/subcommand.hpp"
 #include "core/error.hpp"
+#include "devices/device_parameters.hpp"
 #include "kernel/simulation.hpp"
 #include "model/model_reader.hpp"
 #include "record/run_writer.hpp"
@@ -95,7 +97,7 @@ void write_network(RunWriter& writer, const Simulation& sim, bool connectivity) 
     r.source = path.from;
     r.target = path.to;
     r.rule = "none";
-    r.device = "ideal";
+    r.device = path.devices ? std::string(device_kind_name(path.devices->devices().parameters().kind)) : "none";
     r.receptor = path.receptor == Receptor::excitatory ? "excitatory" : "inhibitory";
     if (connectivity) {
       r.pre = pre;
@@ -104,6 +106,49 @@ void write_network(RunWriter& writer, const Simulation& sim, bool connectivity) 
       r.weight = path.synapses.weight;
     }
     writer.write_pathway(r);
+  }
+}
+
+// Final state of every device pathway: conductances, pulses, energy, requested
+// versus realised changes, initial programming.
+void write_device_records(RunWriter& writer, const Simulation& sim, double t_end) {
+  for (const Pathway& path : sim.network().pathways) {
+    if (!path.devices) continue;
+    const SynapseDevices& syn = *path.devices;
+    const DeviceArray& dev = syn.devices();
+    const std::size_t n = dev.size();
+    std::vector<double> conductance(n), programmed(n), energy(n);
+    std::vector<std::uint32_t> pulses(n);
+    std::vector<std::uint8_t> health(n);
+    for (std::size_t d = 0; d < n; ++d) {
+      conductance[d] = dev.read_mean(d, t_end);
+      programmed[d] = dev.programmed(d);
+      energy[d] = dev.energy(d);
+      pulses[d] = dev.pulse_count(d);
+      health[d] = static_cast<std::uint8_t>(dev.health(d));
+    }
+    DeviceRecord r;
+    r.pathway = path.name;
+    r.device_model = std::string(device_kind_name(dev.parameters().kind));
+    r.layout = std::string(synapse_layout_name(syn.layout().layout));
+    r.rounding = std::string(rounding_name(path.policy->parameters().rounding));
+    r.preset = path.device_preset;
+    r.preset_text = path.device_preset_text;
+    r.gain = syn.layout().gain;
+    r.devices_per_synapse = syn.layout().devices();
+    r.conductance = conductance;
+    r.programmed = programmed;
+    r.pulses = pulses;
+    r.energy = energy;
+    r.health = health;
+    r.requested = path.policy->ledger().requested;
+    r.realised = path.policy->ledger().realised;
+    r.target_weight = path.synapses.weight;
+    r.initial_weight = path.initial_weight;
+    r.initial_failed = path.initial_write.failed;
+    r.initial_out_of_range = path.initial_write.out_of_range;
+    r.initial_unresponsive = path.initial_write.unresponsive;
+    writer.write_devices(r);
   }
 }
 
@@ -139,6 +184,7 @@ int run_command(const RunOptions& options) {
       summary = sim.run(observer, &g_interrupted);
       std::signal(SIGINT, previous);
       progress.finish();
+      write_device_records(writer, sim, summary.time_reached);
       writer.finish(summary.reason == EndReason::complete ? RunStatus::complete : RunStatus::interrupted,
                     summary.time_reached);
     } catch (...) {
@@ -196,6 +242,29 @@ int check_command(const std::string& model_path) {
                spec.wiring == WiringRule::list ? "from list" : spec.weight.describe(Dimension::current),
                spec.wiring == WiringRule::list ? "from list" : spec.delay.describe(Dimension::time));
   }
+  bool any_devices = false;
+  for (const Pathway& p : net.pathways) {
+    if (!p.devices) continue;
+    if (!any_devices) fmt::print("\ndevice synapses\n");
+    any_devices = true;
+    const SynapseDevices& syn = *p.devices;
+    const std::size_t per_synapse = device_bytes_per_synapse(p);
+    bytes += per_synapse * p.synapses.size();
+    const WriteSummary& w = p.initial_write;
+    fmt::print("  {:<20} device {} ({}), layout {}, {} device(s)/synapse, rounding {}, gain {}\n", p.name,
+               device_kind_name(syn.devices().parameters().kind),
+               p.device_preset.empty() ? "inline" : "preset " + p.device_preset, synapse_layout_name(syn.layout().layout),
+               syn.devices_per_synapse(), rounding_name(p.policy->parameters().rounding),
+               format_quantity(syn.layout().gain, Dimension::voltage));
+    fmt::print("  {:<20} {} bytes/synapse of device and policy state; initial weights: {} of {} written within "
+               "tolerance, mean |error| {}, max {}\n",
+               "", per_synapse, w.written - w.failed, w.written,
+               format_quantity(w.written ? w.sum_abs_error / static_cast<double>(w.written) : 0.0, Dimension::current),
+               format_quantity(w.max_abs_error, Dimension::current));
+    if (w.failed)
+      fmt::print("  {:<20} failures: {} out of range, {} on stuck or worn-out devices, {} not converged\n", "",
+                 w.out_of_range, w.unresponsive, w.failed - w.out_of_range - w.unresponsive);
+  }
   fmt::print("\ntotal: {} neurons, {} synapses; estimated memory {:.1f} MiB\n", net.neuron_count(),
              net.synapse_count(), static_cast<double>(bytes) / (1024.0 * 1024.0));
   return 0;
@@ -204,6 +273,44 @@ int check_command(const std::string& model_path) {
 int summary_command(const std::string& run_file) {
   print_summary_table(summarise_run(run_file));
   return 0;
+}
+
+}  // namespace nvsyn::cli
+
+namespace nvsyn::cli {
+
+Subcommand register_run(CLI::App& app) {
+  struct Args {
+    RunOptions run;
+    std::uint64_t seed = 0;
+    std::string duration;
+  };
+  auto args = std::make_shared<Args>();
+  auto* cmd = app.add_subcommand("run", "Run a model and write a run file (HDF5)");
+  cmd->add_option("model", args->run.model, "Model file (TOML)")->required();
+  cmd->add_option("-o,--output", args->run.output, "Run file to write, e.g. run.h5")->required();
+  auto* seed_opt = cmd->add_option("--seed", args->seed, "Override the model's random seed");
+  auto* duration_opt = cmd->add_option("--duration", args->duration, "Override the model time to simulate, e.g. \"2 s\"");
+  cmd->add_flag("-q,--quiet", args->run.quiet, "Print no per-population summary at the end");
+  return {cmd, [args, seed_opt, duration_opt] {
+            if (*seed_opt) args->run.seed = args->seed;
+            if (*duration_opt) args->run.duration = args->duration;
+            return run_command(args->run);
+          }};
+}
+
+Subcommand register_check(CLI::App& app) {
+  auto model = std::make_shared<std::string>();
+  auto* cmd = app.add_subcommand("check", "Validate a model and print what would be built, with a memory estimate");
+  cmd->add_option("model", *model, "Model file (TOML)")->required();
+  return {cmd, [model] { return check_command(*model); }};
+}
+
+Subcommand register_summary(CLI::App& app) {
+  auto file = std::make_shared<std::string>();
+  auto* cmd = app.add_subcommand("summary", "Per-population neurons, spikes, mean rate and CV of inter-spike intervals");
+  cmd->add_option("run_file", *file, "Run file (HDF5) written by 'nvsyn run'")->required();
+  return {cmd, [file] { return summary_command(*file); }};
 }
 
 }  // namespace nvsyn::cli

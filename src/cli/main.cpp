@@ -3,8 +3,9 @@
 // 130 interrupted (the run file is kept, with status "interrupted").
 #include <CLI/CLI.hpp>
 #include <fmt/format.h>
+#include <vector>
 
-#include "cli/commands.hpp"
+#include "cli/subcommand.hpp"
 #include "core/error.hpp"
 
 #ifndef NVSYN_VERSION
@@ -18,30 +19,24 @@ int main(int argc, char** argv) {
   app.require_subcommand(1);
   app.set_version_flag("--version", std::string(NVSYN_VERSION));
 
-  nvsyn::cli::RunOptions run;
-  std::uint64_t seed = 0;
-  std::string duration;
-  auto* run_cmd = app.add_subcommand("run", "Run a model and write a run file (HDF5)");
-  run_cmd->add_option("model", run.model, "Model file (TOML)")->required();
-  run_cmd->add_option("-o,--output", run.output, "Run file to write, e.g. run.h5")->required();
-  auto* seed_opt = run_cmd->add_option("--seed", seed, "Override the model's random seed");
-  auto* duration_opt = run_cmd->add_option("--duration", duration, "Override the model time to simulate, e.g. \"2 s\"");
-  run_cmd->add_flag("-q,--quiet", run.quiet, "Print no per-population summary at the end");
-
-  std::string check_model;
-  auto* check_cmd = app.add_subcommand("check", "Validate a model and print what would be built, with a memory estimate");
-  check_cmd->add_option("model", check_model, "Model file (TOML)")->required();
-
-  std::string summary_file;
-  auto* summary_cmd = app.add_subcommand("summary", "Per-population neurons, spikes, mean rate and CV of inter-spike intervals");
-  summary_cmd->add_option("run_file", summary_file, "Run file (HDF5) written by 'nvsyn run'")->required();
+  using namespace nvsyn::cli;
+  const std::vector<Subcommand> commands = {
+      register_run(app),
+      register_check(app),
+      register_summary(app),
+  };
 
   // CLI11 answers a mistyped command with "A subcommand is required"; name it instead.
   if (argc > 1 && argv[1][0] != '-') {
     const std::string given = argv[1];
-    const bool known = run_cmd->check_name(given) || check_cmd->check_name(given) || summary_cmd->check_name(given);
+    std::string names;
+    bool known = false;
+    for (const auto& c : commands) {
+      known = known || c.app->check_name(given);
+      names += (names.empty() ? "" : ", ") + c.app->get_name();
+    }
     if (!known) {
-      fmt::print(stderr, "error: unknown command '{}'; expected run, check or summary (see nvsyn --help)\n", given);
+      fmt::print(stderr, "error: unknown command '{}'; expected one of {} (see nvsyn --help)\n", given, names);
       return 2;
     }
   }
@@ -62,18 +57,13 @@ int main(int argc, char** argv) {
   }
 
   try {
-    if (*run_cmd) {
-      if (*seed_opt) run.seed = seed;
-      if (*duration_opt) run.duration = duration;
-      return nvsyn::cli::run_command(run);
-    }
-    if (*check_cmd) return nvsyn::cli::check_command(check_model);
-    if (*summary_cmd) return nvsyn::cli::summary_command(summary_file);
+    for (const auto& c : commands)
+      if (*c.app) return c.action();
   } catch (const nvsyn::UserError& e) {
     fmt::print(stderr, "{}\n", e.what());
     return 2;
   } catch (const nvsyn::InternalError& e) {
-    fmt::print(stderr, "internal error: {}\nThis is a bug in nvsyn; please report it with the model file.\n", e.what());
+    fmt::print(stderr, "internal error: {}\nThis is a bug in nvsyn; please report it with the input files.\n", e.what());
     return 1;
   } catch (const std::exception& e) {
     fmt::print(stderr, "internal error: {}\n", e.what());

@@ -149,6 +149,13 @@ const ParamValue::Array& ParamTable::array(const std::string& key) const {
   throw UserError(v.where, key, fmt::format("expected an array, got a {}", v.type_name()));
 }
 
+std::shared_ptr<ParamTable> ParamTable::overlaid_with(const ParamTable& overrides, std::string context) const {
+  auto out = std::make_shared<ParamTable>(overrides.where_, std::move(context));
+  out->entries_ = entries_;
+  for (const auto& [key, value] : overrides.entries_) out->entries_[key] = value;
+  return out;
+}
+
 std::size_t edit_distance(std::string_view a, std::string_view b) {
   std::vector<std::size_t> row(b.size() + 1);
   for (std::size_t j = 0; j <= b.size(); ++j) row[j] = j;

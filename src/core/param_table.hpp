@@ -71,6 +71,10 @@ class ParamTable {
   // Converts one value to a quantity of the given dimension (also used for array items).
   static double to_quantity(const ParamValue& v, const std::string& key, Dimension dim);
 
+  // A new table holding this table's entries, replaced or extended by those of
+  // `overrides` (each value keeps the position of the file it came from).
+  std::shared_ptr<ParamTable> overlaid_with(const ParamTable& overrides, std::string context) const;
+
   // Marks a key as known without reading it (structure keys read elsewhere).
   void mark_used(const std::string& key) const { used_.insert(key); }
 

@@ -24,6 +24,15 @@ std::string_view update_route_name(UpdateRoute r) {
   return "?";
 }
 
+void WriteSummary::add(const VerifyResult& r, double weight_error) {
+  ++written;
+  if (!r.ok()) ++failed;
+  if (r.status == VerifyStatus::out_of_range) ++out_of_range;
+  if (r.status == VerifyStatus::unresponsive) ++unresponsive;
+  sum_abs_error += std::abs(weight_error);
+  max_abs_error = std::max(max_abs_error, std::abs(weight_error));
+}
+
 SynapseLayoutParameters SynapseLayoutParameters::from_table(const ParamTable& t, const DeviceParameters& device) {
   SynapseLayoutParameters s;
   const std::string layout = t.text_or("layout", device.bidirectional() ? "single" : "differential");
@@ -43,8 +52,23 @@ SynapseLayoutParameters SynapseLayoutParameters::from_table(const ParamTable& t,
     if (limit < 1) throw t.error("counter_limit", "must be at least 1");
     s.counter_limit = static_cast<std::uint32_t>(limit);
   }
-  s.gain = t.quantity("gain", Dimension::voltage);
-  if (!(s.gain > 0)) throw t.error("gain", "must be positive (the weight's sign comes from the receptor)");
+  // The gain is given directly, or as the weight a fully programmed synapse carries:
+  // with weight_max, switching presets keeps the weight range.
+  if (t.has("gain") == t.has("weight_max"))
+    throw t.error(t.has("gain") ? "weight_max" : "gain",
+                  "give exactly one of 'gain' (weight per siemens, a voltage such as \"5 uV\") and 'weight_max' "
+                  "(the weight of a fully programmed synapse, a current such as \"0.1 nA\")");
+  if (t.has("gain")) {
+    s.gain = t.quantity("gain", Dimension::voltage);
+    if (!(s.gain > 0)) throw t.error("gain", "must be positive (the weight's sign comes from the receptor)");
+  } else {
+    const double w_max = t.quantity("weight_max", Dimension::current);
+    if (!(w_max > 0)) throw t.error("weight_max", "must be positive (the weight's sign comes from the receptor)");
+    const double span = s.layout == SynapseLayout::multi ? s.devices_per_synapse * device.g_max
+                        : s.layout == SynapseLayout::single ? device.g_max
+                                                            : device.g_max - device.g_min;
+    s.gain = w_max / span;
+  }
   if (s.layout == SynapseLayout::differential) {
     s.refresh_threshold = t.number_or("refresh_threshold", 0.0);
     if (!(s.refresh_threshold >= 0 && s.refresh_threshold <= 1))

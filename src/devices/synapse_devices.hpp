@@ -11,7 +11,8 @@
 //   multi:        w = gain * sum_i G_i over N devices; each update programs one
 //                 device, chosen round-robin (the next device each update) or by a
 //                 counter (the same device until it has taken `counter_limit` pulses).
-// gain is a voltage: the synaptic current jump per siemens (w in A, G in S).
+// gain is a voltage: the synaptic current jump per siemens (w in A, G in S); a file
+// may give `weight_max` instead, the weight of a fully programmed synapse.
 // The sign of the weight the neuron sees comes from the pathway's receptor.
 #include <cstdint>
 #include <memory>
@@ -42,6 +43,17 @@ struct SynapseLayoutParameters {
   std::uint32_t devices() const {
     return layout == SynapseLayout::single ? 1 : layout == SynapseLayout::differential ? 2 : devices_per_synapse;
   }
+};
+
+// Outcome of writing many target weights with program-and-verify.
+struct WriteSummary {
+  std::uint64_t written = 0;       // synapses attempted
+  std::uint64_t failed = 0;        // verify did not reach its tolerance
+  std::uint64_t out_of_range = 0;  // of those: target outside the device range
+  std::uint64_t unresponsive = 0;  // of those: stuck or worn-out device
+  double sum_abs_error = 0.0;      // A, |programmed - target| summed
+  double max_abs_error = 0.0;      // A
+  void add(const VerifyResult& r, double weight_error);
 };
 
 // Which device a programming request went to.
@@ -85,6 +97,8 @@ class SynapseDevices {
   // Device index of device j of synapse k.
   std::size_t device_index(std::size_t k, std::uint32_t j) const { return k * layout_.devices() + j; }
   std::uint64_t refresh_count() const { return refreshes_; }
+  // Per-synapse arrays for the run file.
+  std::size_t devices_per_synapse() const { return layout_.devices(); }
 
  private:
   bool needs_refresh(std::size_t k, double t) const;

@@ -6,6 +6,7 @@
 #include "core/error.hpp"
 #include "kernel/simulation_state.hpp"
 #include "network/wiring.hpp"
+#include "devices/device_parameters.hpp"
 #include "neurons/registry.hpp"
 
 namespace nvsyn {
@@ -60,6 +61,30 @@ GroupRef find_group(const Model& model, const std::string& name) {
   for (std::uint32_t i = 0; i < model.inputs.size(); ++i)
     if (model.inputs[i].name == name) return {true, i};
   throw InternalError(fmt::format("group '{}' vanished after model checking", name));
+}
+
+// Puts the pathway's weights into devices: each target weight is written with
+// program-and-verify at t = 0, and what the devices could not reach is recorded.
+void build_devices(const PathwaySpec& spec, std::uint32_t id, std::uint64_t seed, Pathway& p) {
+  const DeviceParameters device = DeviceParameters::from_table(*spec.device);
+  spec.device->reject_unknown_keys();
+  spec.synapse->mark_used("preset");
+  spec.synapse->mark_used("device");
+  const SynapseLayoutParameters layout = SynapseLayoutParameters::from_table(*spec.synapse, device);
+  const PolicyParameters policy = PolicyParameters::from_table(*spec.synapse);
+  spec.synapse->reject_unknown_keys();
+  const std::size_t n = p.synapses.size();
+  p.devices = std::make_unique<SynapseDevices>(device, layout, n, seed, id);
+  p.policy = std::make_unique<ProgrammingPolicy>(policy, n, seed, id);
+  p.device_preset = spec.device_preset;
+  p.device_preset_text = spec.device_preset_text;
+  p.initial_weight.resize(n);
+  for (std::size_t k = 0; k < n; ++k) {
+    const double target = std::abs(p.synapses.weight[k]);
+    const VerifyResult r = p.devices->write_weight(k, target, 0.0);
+    p.initial_weight[k] = p.sign() * p.devices->weight_programmed(k);
+    p.initial_write.add(r, p.devices->weight_programmed(k) - target);
+  }
 }
 
 void build_pathway(const Model& model, std::uint32_t id, Simulation::State& s) {
@@ -126,6 +151,7 @@ void build_pathway(const Model& model, std::uint32_t id, Simulation::State& s) {
       if (listed.has_delay) st.delay[k] = row.delay;
     }
   }
+  if (spec.device) build_devices(spec, id, s.seed, p);
   s.network.pathways.push_back(std::move(p));
 }
 

@@ -151,7 +151,7 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
           in.slot = ev.slot;
           if (ev.kind == InputKind::synaptic) {
             const Pathway& path = net.pathways[ev.pathway];
-            in.amount = path.synapses.weight[ev.synapse];
+            in.amount = path.weight_at(ev.synapse, ev.time);
             in.receptor = path.receptor;
             ++summary.synaptic_events;
           } else {

@@ -63,6 +63,11 @@ struct PathwaySpec {
   Distribution weight;              // A
   Distribution delay;               // s
   std::shared_ptr<const ParamTable> table;
+  // Device synapses ([pathway.<name>.synapse]); null for plain floating-point weights.
+  std::shared_ptr<const ParamTable> synapse;  // layout, gain, policy keys
+  std::shared_ptr<const ParamTable> device;   // preset with overrides applied
+  std::string device_preset;                  // preset name ("" when given inline)
+  std::string device_preset_text;             // full text of the preset file
 };
 
 struct TraceSpec {

@@ -7,73 +7,12 @@
 #include <fstream>
 #include <set>
 #include <sstream>
-#include <toml++/toml.h>
+
+#include "model/device_preset.hpp"
+#include "model/toml_tables.hpp"
 
 namespace nvsyn {
 namespace {
-
-SourcePosition position_of(const toml::source_region& region, const std::string& file) {
-  return {file, static_cast<int>(region.begin.line), static_cast<int>(region.begin.column)};
-}
-
-// When a string lacks its closing quote the parser speaks of control characters
-// (the string runs into the line break); a hint names the likely cause.
-std::string syntax_hint(const std::string& text, int line) {
-  std::istringstream in(text);
-  std::string row;
-  for (int k = 0; k < line && std::getline(in, row); ++k) {
-  }
-  char open = 0;  // the quote of the string being scanned, 0 outside strings
-  for (std::size_t i = 0; i < row.size(); ++i) {
-    const char c = row[i];
-    if (!open) {
-      if (c == '#') break;
-      if (c == '"' || c == '\'') open = c;
-    } else if (c == '\\' && open == '"') {
-      ++i;
-    } else if (c == open) {
-      open = 0;
-    }
-  }
-  return open ? fmt::format("; is the closing {} missing on this line?", open) : "";
-}
-
-ParamValue convert(const toml::node& node, const std::string& key, const std::string& file,
-                   const std::string& context);
-
-std::shared_ptr<ParamTable> convert_table(const toml::table& table, const std::string& file,
-                                          const std::string& context) {
-  auto out = std::make_shared<ParamTable>(position_of(table.source(), file), context);
-  for (auto&& [key, node] : table) {
-    ParamValue v = convert(node, std::string(key.str()), file, context);
-    // Point at the key: that is where a reader looks for "unknown key" and type errors.
-    v.where = position_of(key.source(), file);
-    if (v.where.line == 0) v.where = position_of(node.source(), file);
-    out->set(std::string(key.str()), std::move(v));
-  }
-  return out;
-}
-
-// `key` names the value in messages (array items carry their array's key).
-ParamValue convert(const toml::node& node, const std::string& key, const std::string& file,
-                   const std::string& context) {
-  ParamValue v;
-  v.where = position_of(node.source(), file);
-  if (auto s = node.as_string()) v.value = s->get();
-  else if (auto i = node.as_integer()) v.value = i->get();
-  else if (auto d = node.as_floating_point()) v.value = d->get();
-  else if (auto b = node.as_boolean()) v.value = b->get();
-  else if (auto t = node.as_table()) v.value = convert_table(*t, file, context);
-  else if (auto a = node.as_array()) {
-    auto items = std::make_shared<ParamValue::Array>();
-    for (const auto& item : *a) items->push_back(convert(item, key, file, context));
-    v.value = items;
-  } else {
-    throw UserError(v.where, key,
-                    "dates and times of day are not used in model files (a duration is a quoted quantity such as \"20 ms\")");
-  }
-  return v;
-}
 
 // Named sub-tables of a section such as [population.exc], in file order.
 std::vector<std::pair<std::string, std::shared_ptr<const ParamTable>>> named_tables(
@@ -225,6 +164,33 @@ std::uint32_t group_size(const Model& model, const std::string& name) {
   return 0;
 }
 
+// [pathway.<name>.synapse]: a device preset (or an inline [..synapse.device] table)
+// with overrides. The layout, gain and policy keys are read when the network is built.
+void read_synapse(const ParamTable& pathway, PathwaySpec& p, const std::string& file) {
+  const ParamValue& v = pathway.value("synapse");
+  if (!v.is_table())
+    throw UserError(v.where, "synapse", fmt::format("expected a table [pathway.{}.synapse], got a {}", p.name, v.type_name()));
+  auto synapse = std::get<std::shared_ptr<ParamTable>>(v.value);
+  synapse->set_context(fmt::format("synapse of pathway '{}'", p.name));
+  std::shared_ptr<ParamTable> base = std::make_shared<ParamTable>();
+  if (synapse->has("preset")) {
+    const ParamValue& ref = synapse->value("preset");
+    const DevicePreset preset = read_device_preset(synapse->text("preset"),
+                                                   std::filesystem::path(file).parent_path().string(), ref.where);
+    base = preset.device;
+    p.device_preset = preset.name;
+    p.device_preset_text = preset.text;
+  }
+  std::shared_ptr<const ParamTable> overrides;
+  if (synapse->has("device")) overrides = synapse->table("device");
+  if (!synapse->has("preset") && !overrides)
+    throw synapse->error("preset", "a synapse needs a device: 'preset = \"<name or file>\"' or a [pathway." + p.name +
+                                       ".synapse.device] table with 'model'");
+  p.device = base->overlaid_with(overrides ? *overrides : ParamTable(),
+                                 fmt::format("device of pathway '{}'", p.name));
+  p.synapse = synapse;
+}
+
 void read_pathways(const ParamTable& root, Model& model, const std::string& file) {
   for (auto& [name, t] : named_tables(root, "pathway", "pathway")) {
     PathwaySpec p;
@@ -296,6 +262,7 @@ void read_pathways(const ParamTable& root, Model& model, const std::string& file
                                     ? "delays must be positive (spikes need time to travel)"
                                     : "a delay distribution must exclude zero: give 'low' > 0");
     }
+    if (t->has("synapse")) read_synapse(*t, p, file);
     t->reject_unknown_keys();
     model.pathways.push_back(std::move(p));
   }
@@ -338,17 +305,10 @@ void read_record(const ParamTable& root, Model& model) {
 }  // namespace
 
 Model read_model_text(const std::string& text, const std::string& file_name) {
-  toml::table doc;
-  try {
-    doc = toml::parse(text, file_name);
-  } catch (const toml::parse_error& e) {
-    const SourcePosition where = position_of(e.source(), file_name);
-    throw UserError(where, "", fmt::format("TOML syntax: {}{}", e.description(), syntax_hint(text, where.line)));
-  }
+  auto root = parse_toml_tables(text, file_name);
   Model model;
   model.file = file_name;
   model.text = text;
-  auto root = convert_table(doc, file_name, "");
   root->mark_used("population");
   root->mark_used("input");
   root->mark_used("pathway");
@@ -363,13 +323,7 @@ Model read_model_text(const std::string& text, const std::string& file_name) {
 }
 
 Model read_model_file(const std::string& path) {
-  std::error_code ec;
-  if (std::filesystem::is_directory(path, ec)) throw UserError({path}, "", "is a folder, not a model file");
-  std::ifstream in(path, std::ios::binary);
-  if (!in) throw UserError({path}, "", fmt::format("cannot read the model file: {}", std::strerror(errno)));
-  std::ostringstream text;
-  text << in.rdbuf();
-  return read_model_text(text.str(), path);
+  return read_model_text(read_text_file(path, "model file"), path);
 }
 
 }  // namespace nvsyn

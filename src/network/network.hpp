@@ -7,7 +7,9 @@
 #include <string>
 #include <vector>
 
+#include "devices/synapse_devices.hpp"
 #include "neurons/neuron_group.hpp"
+#include "plasticity/programming_policy.hpp"
 #include "network/synapse_store.hpp"
 
 namespace nvsyn {
@@ -31,8 +33,28 @@ struct Pathway {
   std::uint32_t target = 0;  // population index
   Receptor receptor = Receptor::excitatory;
   std::string wiring;
-  SynapseStore synapses;
+  SynapseStore synapses;  // weight[] holds the requested (target) weights
+
+  // Device synapses; null when weights are plain floating-point numbers.
+  std::unique_ptr<SynapseDevices> devices;
+  std::unique_ptr<ProgrammingPolicy> policy;
+  std::string device_preset;       // name, or "" when given inline
+  std::string device_preset_text;  // full preset file text
+  WriteSummary initial_write;      // how well the initial weights were programmed
+  std::vector<double> initial_weight;  // A, per synapse, as programmed at t = 0
+
+  double sign() const { return receptor == Receptor::excitatory ? 1.0 : -1.0; }
+  // The weight the target neuron sees for synapse k at time t (A).
+  double weight_at(std::uint64_t k, double t) const {
+    return devices ? sign() * devices->read_weight(k, t) : synapses.weight[k];
+  }
 };
+
+// Bytes of device and policy state per synapse of a device pathway.
+inline std::size_t device_bytes_per_synapse(const Pathway& p) {
+  if (!p.devices) return 0;
+  return p.devices->devices_per_synapse() * DeviceArray::bytes_per_device() + ProgrammingPolicy::bytes_per_synapse(p.policy->parameters());
+}
 
 struct Network {
   std::vector<Population> populations;

@@ -58,6 +58,10 @@ class ProgrammingPolicy {
   const UpdateLedger& ledger() const { return ledger_; }
   const PolicyParameters& parameters() const { return p_; }
   double accumulator(std::size_t k) const { return accumulator_.empty() ? 0.0 : accumulator_[k]; }
+  // Bytes of policy state per synapse: the ledger, plus the accumulator if used.
+  static std::size_t bytes_per_synapse(const PolicyParameters& p) {
+    return 2 * sizeof(double) + sizeof(std::uint32_t) + (p.rounding == Rounding::accumulate ? sizeof(double) : 0);
+  }
 
  private:
   void record(std::size_t k, const UpdateOutcome& o);

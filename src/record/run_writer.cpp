@@ -430,6 +430,47 @@ void RunWriter::write_pathway(const PathwayRecord& pathway) {
   write_fixed_1d(w.h5, g, "weight", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, pathway.weight, "A", path + "/weight");
 }
 
+void RunWriter::write_devices(const DeviceRecord& r) {
+  Impl& w = *impl_;
+  w.require_open("write_devices");
+  if (!is_valid_link_name(r.pathway))
+    throw UserError(fmt::format("pathway name '{}' cannot be stored in a run file", r.pathway));
+  const std::size_t devices = r.conductance.size(), synapses = r.requested.size();
+  if (r.programmed.size() != devices || r.pulses.size() != devices || r.energy.size() != devices ||
+      r.health.size() != devices || r.realised.size() != synapses || r.target_weight.size() != synapses ||
+      r.initial_weight.size() != synapses || devices != synapses * r.devices_per_synapse)
+    throw InternalError(fmt::format("run file '{}': device arrays of pathway '{}' have inconsistent lengths",
+                                    w.h5.path(), r.pathway));
+  H5Handle root = open_or_create_group(w.h5, w.file.get(), "devices", "/devices");
+  const std::string path = "/devices/" + r.pathway;
+  H5Handle group = create_group(w.h5, root.get(), r.pathway, path);
+  const hid_t g = group.get();
+  write_string_attr(w.h5, g, "device_model", r.device_model, path);
+  write_string_attr(w.h5, g, "layout", r.layout, path);
+  write_string_attr(w.h5, g, "rounding", r.rounding, path);
+  write_string_attr(w.h5, g, "preset", r.preset, path);
+  write_string_attr(w.h5, g, "preset_text", r.preset_text, path);
+  write_scalar_attr(w.h5, g, "gain", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, r.gain, path);
+  write_string_attr(w.h5, g, "gain_units", "V", path);
+  const std::uint32_t per = r.devices_per_synapse;
+  write_scalar_attr(w.h5, g, "devices_per_synapse", H5T_STD_U32LE, H5T_NATIVE_UINT32, per, path);
+  const std::uint64_t failed[3] = {r.initial_failed, r.initial_out_of_range, r.initial_unresponsive};
+  write_scalar_attr(w.h5, g, "initial_failed", H5T_STD_U64LE, H5T_NATIVE_UINT64, failed[0], path);
+  write_scalar_attr(w.h5, g, "initial_out_of_range", H5T_STD_U64LE, H5T_NATIVE_UINT64, failed[1], path);
+  write_scalar_attr(w.h5, g, "initial_unresponsive", H5T_STD_U64LE, H5T_NATIVE_UINT64, failed[2], path);
+  write_fixed_1d(w.h5, g, "conductance", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, r.conductance, "S", path + "/conductance");
+  write_fixed_1d(w.h5, g, "programmed", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, r.programmed, "S", path + "/programmed");
+  write_fixed_1d(w.h5, g, "pulses", H5T_STD_U32LE, H5T_NATIVE_UINT32, r.pulses, "", path + "/pulses");
+  write_fixed_1d(w.h5, g, "energy", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, r.energy, "J", path + "/energy");
+  write_fixed_1d(w.h5, g, "health", H5T_STD_U8LE, H5T_NATIVE_UINT8, r.health, "", path + "/health");
+  write_fixed_1d(w.h5, g, "requested", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, r.requested, "A", path + "/requested");
+  write_fixed_1d(w.h5, g, "realised", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, r.realised, "A", path + "/realised");
+  write_fixed_1d(w.h5, g, "target_weight", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, r.target_weight, "A",
+                 path + "/target_weight");
+  write_fixed_1d(w.h5, g, "initial_weight", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, r.initial_weight, "A",
+                 path + "/initial_weight");
+}
+
 int RunWriter::open_trace(const std::string& population, std::string_view variable, Dimension unit,
                           std::span<const std::uint32_t> neurons) {
   Impl& w = *impl_;

@@ -40,6 +40,31 @@ struct PathwayRecord {
   std::span<const double> weight;  // A (current-based synapses)
 };
 
+// The devices of one pathway at the end of a run (/devices/<path>).
+struct DeviceRecord {
+  std::string pathway;
+  std::string device_model;  // device kind
+  std::string layout;        // single | differential | multi
+  std::string rounding;      // programming policy
+  std::string preset;        // preset name, "" when inline
+  std::string preset_text;   // full preset file
+  double gain = 0.0;         // V: weight per siemens
+  std::uint32_t devices_per_synapse = 1;
+  // per device (synapse k owns devices [k * devices_per_synapse, (k+1) * devices_per_synapse))
+  std::span<const double> conductance;   // S, at the end time with drift, without read noise
+  std::span<const double> programmed;    // S, right after the last programming
+  std::span<const std::uint32_t> pulses;
+  std::span<const double> energy;        // J
+  std::span<const std::uint8_t> health;  // 0 working, 1 stuck low, 2 stuck high, 3 worn out
+  // per synapse
+  std::span<const double> requested;     // A, requested weight change summed over updates
+  std::span<const double> realised;      // A
+  std::span<const double> target_weight; // A, weight asked for when the network was built
+  std::span<const double> initial_weight;// A, weight programmed by program-and-verify at t = 0
+  // initial programming
+  std::uint64_t initial_failed = 0, initial_out_of_range = 0, initial_unresponsive = 0;
+};
+
 class RunWriter {
  public:
   // Creates (truncates) `path`. Throws UserError naming the path if it cannot.
@@ -54,6 +79,9 @@ class RunWriter {
   void append_spikes(int stream, std::span<const double> times, std::span<const std::uint32_t> neurons);
 
   void write_pathway(const PathwayRecord& pathway);
+
+  // Creates /devices/<pathway> with the datasets of `record`.
+  void write_devices(const DeviceRecord& record);
 
   // Creates /traces/<population>/<variable>/{time,value,neuron}; returns a trace id.
   int open_trace(const std::string& population, std::string_view variable, Dimension unit,
