@@ -217,7 +217,10 @@ VerifyResult SynapseDevices::write_weight(std::size_t k, double w, double t) {
       devices_.reset(base, t);
       devices_.reset(base + 1, t);
       const double low = devices_.read(base + 1, t);
-      keep_worst(program_and_verify(devices_, base, low + g, t, layout_.verify));
+      VerifyResult r = program_and_verify(devices_, base, low + g, t, layout_.verify);
+      // A partner stuck high pushes the target out of range: the cause is the partner.
+      if (!r.ok() && !devices_.responsive(base + 1)) r.status = VerifyStatus::unresponsive;
+      keep_worst(r);
       break;
     }
     case SynapseLayout::multi:
