@@ -20,6 +20,18 @@ struct SpikeCollector : RunObserver {
   };
   std::vector<Spike> spikes;
   std::vector<Sample> samples;
+  std::vector<WeightChange> changes;
+  std::vector<Sample> weight_samples, snapshots;
+
+  void on_weight_changes(std::uint32_t, std::span<const WeightChange> c) override {
+    changes.insert(changes.end(), c.begin(), c.end());
+  }
+  void on_weight_sample(std::uint32_t r, double time, std::span<const double> w) override {
+    weight_samples.push_back({r, time, std::vector<double>(w.begin(), w.end())});
+  }
+  void on_weight_snapshot(std::uint32_t r, double time, std::span<const double> w) override {
+    snapshots.push_back({r, time, std::vector<double>(w.begin(), w.end())});
+  }
 
   void on_spikes(std::uint32_t p, std::span<const double> t, std::span<const std::uint32_t> n) override {
     for (std::size_t i = 0; i < t.size(); ++i) spikes.push_back({p, n[i], t[i]});

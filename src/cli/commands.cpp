@@ -1,6 +1,7 @@
 #include "cli/commands.hpp"
 
 #include <atomic>
+#include <cmath>
 #include <chrono>
 #include <csignal>
 #include <filesystem>
@@ -96,7 +97,7 @@ void write_network(RunWriter& writer, const Simulation& sim, bool connectivity) 
     r.name = path.name;
     r.source = path.from;
     r.target = path.to;
-    r.rule = "none";
+    r.rule = path.rule ? std::string(path.rule->name()) : "none";
     r.device = path.devices ? std::string(device_kind_name(path.devices->devices().parameters().kind)) : "none";
     r.receptor = path.receptor == Receptor::excitatory ? "excitatory" : "inhibitory";
     if (connectivity) {
@@ -225,9 +226,8 @@ int check_command(const std::string& model_path) {
   if (sim.inputs().empty()) fmt::print("  (none)\n");
   for (std::size_t i = 0; i < sim.inputs().size(); ++i) {
     const InputGroup& in = sim.inputs()[i];
-    if (in.poisson)
-      fmt::print("  {:<20} {:>9} Poisson sources at {}\n", in.name, in.poisson->size(),
-                 format_quantity(in.poisson->rate(), Dimension::frequency));
+    if (in.spikes)
+      fmt::print("  {:<20} {:>9} {}\n", in.name, in.spikes->size(), in.spikes->describe());
     else
       fmt::print("  {:<20} injected current\n", in.name);
   }
@@ -241,6 +241,35 @@ int check_command(const std::string& model_path) {
                p.receptor == Receptor::excitatory ? "excitatory" : "inhibitory", p.synapses.size(),
                spec.wiring == WiringRule::list ? "from list" : spec.weight.describe(Dimension::current),
                spec.wiring == WiringRule::list ? "from list" : spec.delay.describe(Dimension::time));
+  }
+  bool any_learning = false;
+  for (const Pathway& p : net.pathways) {
+    if (!p.rule && !p.short_term) continue;
+    if (!any_learning) fmt::print("\nplasticity\n");
+    any_learning = true;
+    std::size_t per_synapse = 0;
+    std::string what;
+    if (p.rule) {
+      per_synapse += p.rule->bytes_per_synapse();
+      bytes += p.rule->bytes_per_neuron() * p.target_size;
+      what = fmt::format("rule {} (w_max {})", p.rule->name(), format_quantity(p.rule->w_max(), Dimension::current));
+      if (!p.rewards.empty()) what += fmt::format(", {} scheduled rewards", p.rewards.size());
+      if (p.normalise_interval > 0)
+        what += fmt::format(", incoming weights normalised to {} every {}", format_quantity(p.normalise_total, Dimension::current),
+                            format_quantity(p.normalise_interval, Dimension::time));
+      if (std::isfinite(p.learn_until) || p.learn_from > 0)
+        what += fmt::format(", learning from {} to {}", format_quantity(p.learn_from, Dimension::time),
+                            std::isfinite(p.learn_until) ? format_quantity(p.learn_until, Dimension::time) : "the end");
+      if (!p.devices) per_synapse += 2 * sizeof(double) + sizeof(std::uint32_t);  // requested/realised ledger
+    }
+    if (p.short_term) {
+      per_synapse += ShortTermPlasticity::bytes_per_synapse();
+      const auto& stp = p.short_term->parameters();
+      what += fmt::format("{}short-term plasticity U = {:g}, tau_rec {}, tau_facil {}", what.empty() ? "" : "; ", stp.u,
+                          format_quantity(stp.tau_rec, Dimension::time), format_quantity(stp.tau_facil, Dimension::time));
+    }
+    bytes += per_synapse * p.synapses.size();
+    fmt::print("  {:<20} {}; {} bytes/synapse of learning state\n", p.name, what, per_synapse);
   }
   bool any_devices = false;
   for (const Pathway& p : net.pathways) {

@@ -1,6 +1,9 @@
 #include "inputs/poisson_group.hpp"
 
+#include <fmt/format.h>
 #include <limits>
+
+#include "core/units.hpp"
 
 namespace nvsyn {
 
@@ -13,6 +16,10 @@ PoissonGroup::PoissonGroup(std::uint32_t size, double rate_hz, double start, dou
     rng_.emplace_back(seed, StreamPurpose::poisson, (std::uint64_t{group_id} << 32) | i);
     next_[i] = rate_ > 0 ? start + rng_[i].exponential() / rate_ : std::numeric_limits<double>::infinity();
   }
+}
+
+std::string PoissonGroup::describe() const {
+  return fmt::format("Poisson sources at {}", format_quantity(rate_, Dimension::frequency));
 }
 
 void PoissonGroup::emit(double t_end, std::vector<SourceSpike>& out) {

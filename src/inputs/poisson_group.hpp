@@ -9,25 +9,22 @@
 #include <vector>
 
 #include "core/random_stream.hpp"
+#include "inputs/spike_source.hpp"
 
 namespace nvsyn {
 
-struct SourceSpike {
-  double time = 0.0;
-  std::uint32_t source = 0;
-};
-
-class PoissonGroup {
+class PoissonGroup final : public SpikeSource {
  public:
   PoissonGroup(std::uint32_t size, double rate_hz, double start, double stop, std::uint64_t seed,
                std::uint32_t group_id);
 
-  std::uint32_t size() const { return static_cast<std::uint32_t>(next_.size()); }
+  std::uint32_t size() const override { return static_cast<std::uint32_t>(next_.size()); }
+  std::string describe() const override;
   double rate() const { return rate_; }
 
   // Appends the spikes in [t_begin, t_end) of every source; order within the
   // window is by source, then time (the kernel sorts).
-  void emit(double t_end, std::vector<SourceSpike>& out);
+  void emit(double t_end, std::vector<SourceSpike>& out) override;
 
  private:
   double rate_, stop_;

@@ -7,7 +7,10 @@
 #include "kernel/simulation_state.hpp"
 #include "network/wiring.hpp"
 #include "devices/device_parameters.hpp"
+#include "inputs/poisson_group.hpp"
+#include "inputs/timed_spikes.hpp"
 #include "neurons/registry.hpp"
+#include "plasticity/learning_rule.hpp"
 
 namespace nvsyn {
 namespace {
@@ -35,7 +38,11 @@ void build_inputs(const Model& model, Simulation::State& s) {
     InputGroup group;
     group.name = spec.name;
     if (spec.kind == InputKindSpec::poisson) {
-      group.poisson = std::make_unique<PoissonGroup>(spec.size, spec.rate, spec.start, spec.stop, s.seed, i);
+      group.spikes = std::make_unique<PoissonGroup>(spec.size, spec.rate, spec.start, spec.stop, s.seed, i);
+    } else if (spec.kind == InputKindSpec::times) {
+      group.spikes = std::make_unique<TimedSpikes>(spec.spike_times);
+    } else if (spec.kind == InputKindSpec::regular) {
+      group.spikes = std::make_unique<TimedSpikes>(TimedSpikes::regular(spec.size, spec.rate, spec.start, spec.count));
     } else {
       std::uint32_t target = 0;
       while (model.populations[target].name != spec.target) ++target;
@@ -87,6 +94,50 @@ void build_devices(const PathwaySpec& spec, std::uint32_t id, std::uint64_t seed
   }
 }
 
+// Synapses grouped by target neuron: what a postsynaptic spike or a normalisation touches.
+void index_incoming(Pathway& p, std::uint32_t n_post) {
+  const SynapseStore& st = p.synapses;
+  p.incoming_begin.assign(std::size_t{n_post} + 1, 0);
+  for (std::uint32_t post : st.post) ++p.incoming_begin[post + 1];
+  for (std::uint32_t j = 0; j < n_post; ++j) p.incoming_begin[j + 1] += p.incoming_begin[j];
+  p.incoming.resize(st.size());
+  std::vector<std::uint64_t> fill(p.incoming_begin.begin(), p.incoming_begin.end() - 1);
+  for (std::uint64_t k = 0; k < st.size(); ++k) p.incoming[fill[st.post[k]]++] = k;
+}
+
+// [pathway.<name>.plasticity]: the rule and its parameters, when it learns, rewards
+// and normalisation of each neuron's incoming weights.
+void build_learning(const PathwaySpec& spec, Pathway& p) {
+  const ParamTable& t = *spec.plasticity;
+  p.learn_from = t.quantity_or("active_from", Dimension::time, 0.0);
+  p.learn_until = t.quantity_or("active_until", Dimension::time, p.learn_until);
+  if (p.learn_from < 0) throw t.error("active_from", "must not be negative");
+  if (!(p.learn_until > p.learn_from)) throw t.error("active_until", "must be later than active_from");
+  if (t.has("rewards"))
+    for (const ParamValue& item : t.array("rewards")) {
+      const auto* pair = std::get_if<std::shared_ptr<ParamValue::Array>>(&item.value);
+      if (!pair || (*pair)->size() != 2)
+        throw UserError(item.where, "rewards", "each reward is a pair [\"<time>\", <size>], e.g. [\"1.5 s\", 1.0]");
+      const double at = ParamTable::to_quantity((**pair)[0], "rewards", Dimension::time);
+      const double size = ParamTable::to_quantity((**pair)[1], "rewards", Dimension::dimensionless);
+      if (at < 0) throw UserError(item.where, "rewards", "reward times must not be negative");
+      p.rewards.emplace_back(at, size);
+    }
+  std::stable_sort(p.rewards.begin(), p.rewards.end(), [](const auto& a, const auto& b) { return a.first < b.first; });
+  p.normalise_interval = t.quantity_or("normalise_interval", Dimension::time, 0.0);
+  if (p.normalise_interval < 0) throw t.error("normalise_interval", "must not be negative (0: off)");
+  if (p.normalise_interval > 0) {
+    p.normalise_total = t.quantity("normalise_total", Dimension::current);
+    if (!(p.normalise_total > 0)) throw t.error("normalise_total", "must be positive: the sum of |w| onto each neuron");
+  }
+  t.mark_used("normalise_total");
+  p.rule = make_learning_rule(t, p.synapses.size(), p.target_size);
+  if (!p.rewards.empty() && !p.rule->uses_reward())
+    throw t.error("rewards", fmt::format("rule '{}' does not use rewards; use rule = \"reward_stdp\"", p.rule->name()));
+  t.reject_unknown_keys();
+  if (!p.devices) p.plain_ledger = UpdateLedger(p.synapses.size());
+}
+
 void build_pathway(const Model& model, std::uint32_t id, Simulation::State& s) {
   const PathwaySpec& spec = model.pathways[id];
   Pathway p;
@@ -101,7 +152,7 @@ void build_pathway(const Model& model, std::uint32_t id, Simulation::State& s) {
   WiringContext c;
   c.seed = s.seed;
   c.pathway_id = id;
-  c.n_pre = p.source.is_input ? s.inputs[p.source.index].poisson->size()
+  c.n_pre = p.source.is_input ? s.inputs[p.source.index].spikes->size()
                               : s.network.populations[p.source.index].size();
   c.n_post = s.network.populations[p.target].size();
   c.same_group = !p.source.is_input && p.source.index == p.target;
@@ -124,6 +175,7 @@ void build_pathway(const Model& model, std::uint32_t id, Simulation::State& s) {
       break;
   }
   p.synapses = SynapseStore::from_edges(c.n_pre, edges);
+  p.target_size = c.n_post;
 
   // Draw weights and delays per source neuron, in row order: independent of how
   // sources are later distributed over threads or processes.
@@ -152,6 +204,12 @@ void build_pathway(const Model& model, std::uint32_t id, Simulation::State& s) {
     }
   }
   if (spec.device) build_devices(spec, id, s.seed, p);
+  if (spec.plasticity) build_learning(spec, p);
+  if (spec.short_term) {
+    p.short_term = std::make_unique<ShortTermPlasticity>(ShortTermPlasticityParameters::from_table(*spec.short_term),
+                                                         p.synapses.size());
+    spec.short_term->reject_unknown_keys();
+  }
   s.network.pathways.push_back(std::move(p));
 }
 
@@ -180,6 +238,45 @@ void build_traces(const Model& model, Simulation::State& s) {
   }
 }
 
+void build_learning_indices(Simulation::State& s) {
+  s.learning_inputs.assign(s.network.populations.size(), {});
+  for (std::uint32_t id = 0; id < s.network.pathways.size(); ++id) {
+    Pathway& p = s.network.pathways[id];
+    if (!p.rule) continue;
+    index_incoming(p, p.target_size);
+    s.learning_inputs[p.target].push_back(id);
+  }
+}
+
+void build_weight_recorders(const Model& model, Simulation::State& s) {
+  s.change_recorders.assign(s.network.pathways.size(), {});
+  for (const WeightRecordSpec& spec : model.record.weights) {
+    WeightRecorder r;
+    r.name = spec.pathway;
+    while (s.network.pathways[r.pathway].name != spec.pathway) ++r.pathway;
+    const Pathway& p = s.network.pathways[r.pathway];
+    if (spec.all_synapses) {
+      r.synapses.resize(p.synapses.size());
+      for (std::uint64_t k = 0; k < p.synapses.size(); ++k) r.synapses[k] = k;
+    } else {
+      r.synapses = spec.synapses;
+      for (std::uint64_t k : r.synapses)
+        if (k >= p.synapses.size())
+          throw spec.table->error("synapses", fmt::format("synapse {} does not exist: pathway '{}' has {} synapses",
+                                                          k, p.name, p.synapses.size()));
+    }
+    r.interval = spec.interval;
+    r.every_change = spec.every_change;
+    r.snapshots = spec.snapshots;
+    if (r.every_change) {
+      r.position.assign(p.synapses.size(), -1);
+      for (std::size_t i = 0; i < r.synapses.size(); ++i) r.position[r.synapses[i]] = static_cast<std::int64_t>(i);
+      s.change_recorders[r.pathway].push_back(static_cast<std::uint32_t>(s.weight_recorders.size()));
+    }
+    s.weight_recorders.push_back(std::move(r));
+  }
+}
+
 }  // namespace
 
 Simulation Simulation::build(const Model& model, const BuildOptions& options) {
@@ -199,6 +296,8 @@ Simulation Simulation::build(const Model& model, const BuildOptions& options) {
     }
   }
   build_traces(model, *s);
+  build_learning_indices(*s);
+  build_weight_recorders(model, *s);
   for (const auto& name : model.record.spike_populations)
     s->recorded_populations.push_back(find_group(model, name).index);
 
@@ -208,8 +307,8 @@ Simulation Simulation::build(const Model& model, const BuildOptions& options) {
   for (std::size_t g = 0; g < groups; ++g) {
     const std::uint32_t size = g < s->network.populations.size()
                                    ? s->network.populations[g].size()
-                                   : (s->inputs[g - s->network.populations.size()].poisson
-                                          ? s->inputs[g - s->network.populations.size()].poisson->size()
+                                   : (s->inputs[g - s->network.populations.size()].spikes
+                                          ? s->inputs[g - s->network.populations.size()].spikes->size()
                                           : 0);
     s->group_offset[g + 1] = s->group_offset[g] + size;
   }

@@ -3,8 +3,10 @@
 #include <algorithm>
 #include <chrono>
 #include <cmath>
+#include <fmt/format.h>
 #include <tuple>
 
+#include "core/error.hpp"
 #include "kernel/simulation_state.hpp"
 
 namespace nvsyn {
@@ -18,9 +20,29 @@ const Network& Simulation::network() const { return state_->network; }
 const std::vector<InputGroup>& Simulation::inputs() const { return state_->inputs; }
 const std::vector<TraceStream>& Simulation::traces() const { return state_->traces; }
 const std::vector<std::uint32_t>& Simulation::recorded_populations() const { return state_->recorded_populations; }
+const std::vector<WeightRecorder>& Simulation::weight_recorders() const { return state_->weight_recorders; }
 std::uint64_t Simulation::seed() const { return state_->seed; }
 double Simulation::duration() const { return state_->duration; }
 double Simulation::window() const { return state_->window; }
+
+void Simulation::add_reward(const std::string& pathway, double t, double r) {
+  State& s = *state_;
+  for (std::uint32_t id = 0; id < s.network.pathways.size(); ++id) {
+    Pathway& p = s.network.pathways[id];
+    if (p.name != pathway) continue;
+    if (!p.rule || !p.rule->uses_reward())
+      throw UserError({}, "reward", fmt::format("pathway '{}' has no reward-modulated rule", pathway));
+    const double now = static_cast<double>(s.next_window) * s.window;
+    if (t < now) throw UserError({}, "reward", fmt::format("reward at {} s lies before the present model time {} s", t, now));
+    // Keep the unread part of the schedule sorted; what was delivered stays in front.
+    const std::size_t first = s.next_reward.empty() ? 0 : s.next_reward[id];
+    auto at = std::upper_bound(p.rewards.begin() + static_cast<std::ptrdiff_t>(first), p.rewards.end(), t,
+                               [](double x, const auto& e) { return x < e.first; });
+    p.rewards.insert(at, {t, r});
+    return;
+  }
+  throw UserError({}, "reward", fmt::format("no pathway named '{}'", pathway));
+}
 
 namespace {
 
@@ -35,6 +57,22 @@ struct SampleRow {
   std::uint32_t trace;
   double time;
   std::uint32_t first_slot;
+};
+
+// An event that concerns a whole pathway or recorder, applied between neuron
+// updates: everything before its time is done, nothing after it has started.
+enum class GlobalKind : std::uint8_t { reward, normalisation, weight_sample, snapshot };
+struct GlobalEvent {
+  double time;
+  GlobalKind kind;
+  std::uint32_t index;  // pathway or recorder
+  double value;         // reward size
+};
+
+// Events of one neuron within the sorted bucket: [begin, end), next = first not yet applied.
+struct NeuronRun {
+  std::uint32_t neuron;
+  std::size_t next, end;
 };
 
 bool event_order(const PendingEvent& a, const PendingEvent& b) {
@@ -56,7 +94,155 @@ struct Scratch {
   std::vector<double> spike_times;
   std::vector<std::uint32_t> spike_neurons;
   std::vector<std::uint64_t> next_sample;  // per trace: index of the next sample time
+  std::vector<std::vector<NeuronRun>> runs;  // per population
+  std::vector<GlobalEvent> globals;
+  std::vector<std::vector<WeightChange>> changes;  // per recorder, this window
+  std::vector<double> weights;
 };
+
+// Applies a requested change of |w| to synapse k: through the programming policy
+// and devices, or to the floating-point weight within [0, w_max].
+UpdateOutcome apply_change(Simulation::State& s, Scratch& scratch, std::uint32_t path_id, std::uint64_t k, double dw,
+                           double t) {
+  Pathway& p = s.network.pathways[path_id];
+  UpdateOutcome out;
+  if (p.devices) {
+    out = p.policy->apply(*p.devices, k, dw, t);
+  } else {
+    const double before = std::abs(p.synapses.weight[k]);
+    const double after = std::clamp(before + dw, 0.0, p.rule ? p.rule->w_max() : before + dw);
+    p.synapses.weight[k] = p.sign() * after;
+    out.requested = dw;
+    out.realised = after - before;
+    out.route = out.realised != 0.0 ? UpdateRoute::direct : UpdateRoute::none;
+    p.plain_ledger.add(k, out);
+  }
+  for (std::uint32_t r : s.change_recorders[path_id])
+    if (s.weight_recorders[r].position[k] >= 0) scratch.changes[r].push_back({t, k, out.requested, out.realised, static_cast<std::uint8_t>(out.route)});
+  return out;
+}
+
+// What the neuron models call back while they work through a window.
+class KernelHooks final : public SpikeHooks {
+ public:
+  KernelHooks(Simulation::State& s, Scratch& scratch, std::uint32_t population)
+      : s_(s), scratch_(scratch), population_(population) {}
+
+  double synaptic_amount(std::uint32_t neuron, const NeuronInput& in) override {
+    Pathway& p = s_.network.pathways[in.pathway];
+    const std::uint64_t k = in.synapse;
+    // The spike is transmitted with the weight it finds ...
+    double w = p.weight_at(k, in.time);
+    if (p.rule && p.rule->has_short_term_component())
+      w = p.sign() * std::max(0.0, std::abs(w) + p.rule->short_term_component(k, in.time));
+    if (p.short_term) w *= p.short_term->transmit(k, in.time);
+    // ... then the rule may change it.
+    if (p.rule) {
+      const double dw = p.rule->on_pre(k, neuron, in.time, p.magnitude(k));
+      if (dw != 0.0 && p.learning_at(in.time)) apply_change(s_, scratch_, in.pathway, k, dw, in.time);
+    }
+    return w;
+  }
+
+  void on_spike(std::uint32_t neuron, double t) override {
+    for (std::uint32_t id : s_.learning_inputs[population_]) {
+      Pathway& p = s_.network.pathways[id];
+      const bool learning = p.learning_at(t);
+      for (std::uint64_t i = p.incoming_begin[neuron]; i < p.incoming_begin[neuron + 1]; ++i) {
+        const std::uint64_t k = p.incoming[i];
+        const double dw = p.rule->on_post(k, neuron, t, p.magnitude(k));
+        if (dw != 0.0 && learning) apply_change(s_, scratch_, id, k, dw, t);
+      }
+      p.rule->post_spike_end(neuron, t);
+    }
+  }
+
+ private:
+  Simulation::State& s_;
+  Scratch& scratch_;
+  std::uint32_t population_;
+};
+
+void gather_globals(Simulation::State& s, double t_end, std::vector<GlobalEvent>& out) {
+  out.clear();
+  const double limit = std::min(t_end, s.duration);
+  for (std::uint32_t id = 0; id < s.network.pathways.size(); ++id) {
+    Pathway& p = s.network.pathways[id];
+    for (; s.next_reward[id] < p.rewards.size() && p.rewards[s.next_reward[id]].first < limit; ++s.next_reward[id])
+      out.push_back({p.rewards[s.next_reward[id]].first, GlobalKind::reward, id, p.rewards[s.next_reward[id]].second});
+    if (p.normalise_interval > 0)
+      for (;;) {
+        const double t = static_cast<double>(s.next_normalisation[id]) * p.normalise_interval;
+        if (t >= limit) break;
+        out.push_back({t, GlobalKind::normalisation, id, 0.0});
+        ++s.next_normalisation[id];
+      }
+  }
+  for (std::uint32_t r = 0; r < s.weight_recorders.size(); ++r) {
+    const WeightRecorder& rec = s.weight_recorders[r];
+    if (rec.interval > 0)
+      for (;;) {
+        const double t = static_cast<double>(s.next_weight_sample[r]) * rec.interval;
+        if (t >= limit) break;
+        out.push_back({t, GlobalKind::weight_sample, r, 0.0});
+        ++s.next_weight_sample[r];
+      }
+    for (; s.next_snapshot[r] < rec.snapshots.size() && rec.snapshots[s.next_snapshot[r]] < limit; ++s.next_snapshot[r])
+      out.push_back({rec.snapshots[s.next_snapshot[r]], GlobalKind::snapshot, r, 0.0});
+  }
+  std::stable_sort(out.begin(), out.end(), [](const GlobalEvent& a, const GlobalEvent& b) {
+    return std::tie(a.time, a.kind, a.index) < std::tie(b.time, b.kind, b.index);
+  });
+}
+
+// Scales the incoming weights of every target neuron so that their magnitudes sum
+// to normalise_total; each change goes through the pathway's policy and devices.
+void normalise(Simulation::State& s, Scratch& scratch, std::uint32_t id, double t) {
+  Pathway& p = s.network.pathways[id];
+  if (p.incoming_begin.empty()) return;
+  for (std::uint32_t j = 0; j + 1 < p.incoming_begin.size(); ++j) {
+    double total = 0.0;
+    for (std::uint64_t i = p.incoming_begin[j]; i < p.incoming_begin[j + 1]; ++i) total += p.magnitude(p.incoming[i]);
+    if (total <= 0.0) continue;
+    const double factor = p.normalise_total / total;
+    for (std::uint64_t i = p.incoming_begin[j]; i < p.incoming_begin[j + 1]; ++i) {
+      const std::uint64_t k = p.incoming[i];
+      const double w = p.magnitude(k);
+      apply_change(s, scratch, id, k, w * factor - w, t);
+    }
+  }
+}
+
+void apply_global(Simulation::State& s, Scratch& scratch, RunObserver& observer, const GlobalEvent& g) {
+  switch (g.kind) {
+    case GlobalKind::reward: {
+      Pathway& p = s.network.pathways[g.index];
+      if (!p.learning_at(g.time)) return;
+      for (std::uint64_t k = 0; k < p.synapses.size(); ++k) {
+        const double dw = p.rule->on_reward(k, g.time, g.value);
+        if (dw != 0.0) apply_change(s, scratch, g.index, k, dw, g.time);
+      }
+      return;
+    }
+    case GlobalKind::normalisation:
+      if (s.network.pathways[g.index].learning_at(g.time)) normalise(s, scratch, g.index, g.time);
+      return;
+    case GlobalKind::weight_sample:
+    case GlobalKind::snapshot: {
+      const WeightRecorder& rec = s.weight_recorders[g.index];
+      const Pathway& p = s.network.pathways[rec.pathway];
+      scratch.weights.clear();
+      if (g.kind == GlobalKind::weight_sample) {
+        for (std::uint64_t k : rec.synapses) scratch.weights.push_back(p.weight_record(k, g.time));
+        observer.on_weight_sample(g.index, g.time, scratch.weights);
+      } else {
+        for (std::uint64_t k = 0; k < p.synapses.size(); ++k) scratch.weights.push_back(p.weight_record(k, g.time));
+        observer.on_weight_snapshot(g.index, g.time, scratch.weights);
+      }
+      return;
+    }
+  }
+}
 
 }  // namespace
 
@@ -72,6 +258,12 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
   scratch.samples.resize(n_pop);
   scratch.sample_slots.resize(n_pop);
   scratch.next_sample.assign(s.traces.size(), 0);
+  scratch.runs.resize(n_pop);
+  scratch.changes.resize(s.weight_recorders.size());
+  s.next_reward.resize(net.pathways.size(), 0);
+  s.next_normalisation.resize(net.pathways.size(), 1);  // the first normalisation after one interval
+  s.next_weight_sample.resize(s.weight_recorders.size(), 0);
+  s.next_snapshot.resize(s.weight_recorders.size(), 0);
 
   const std::size_t ring_size = s.ring.size();
   const auto window_count = static_cast<std::uint64_t>(std::ceil(s.duration / s.window - 1e-12));
@@ -124,55 +316,80 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
     }
 
     std::sort(bucket.begin(), bucket.end(), event_order);
+    for (auto& r : scratch.runs) r.clear();
+    for (std::size_t e = 0; e < bucket.size();) {
+      std::size_t end = e;
+      while (end < bucket.size() && bucket[end].population == bucket[e].population && bucket[end].neuron == bucket[e].neuron)
+        ++end;
+      scratch.runs[bucket[e].population].push_back({bucket[e].neuron, e, end});
+      e = end;
+    }
+    gather_globals(s, t_end, scratch.globals);
 
-    // Visit every neuron that has input or may fire on its own, in index order.
+    // The window is cut at the times of global events into segments; in each, every
+    // neuron with input, or that may fire on its own, is processed in index order.
     scratch.spikes.clear();
-    std::size_t e = 0;
-    for (std::uint32_t p = 0; p < n_pop; ++p) {
-      NeuronGroup& group = *net.populations[p].neurons;
-      const std::vector<std::uint32_t>& active = s.active[p];
-      scratch.next_active.clear();
-      std::size_t a = 0;
-      for (;;) {
-        const bool has_event = e < bucket.size() && bucket[e].population == p;
-        const bool has_active = a < active.size();
-        if (!has_event && !has_active) break;
-        std::uint32_t n;
-        if (has_event && (!has_active || bucket[e].neuron <= active[a])) n = bucket[e].neuron;
-        else n = active[a];
-        if (has_active && active[a] == n) ++a;
+    for (std::size_t g = 0; g <= scratch.globals.size(); ++g) {
+      const double segment_end = g < scratch.globals.size() ? scratch.globals[g].time : t_end;
+      for (std::uint32_t p = 0; p < n_pop; ++p) {
+        NeuronGroup& group = *net.populations[p].neurons;
+        KernelHooks hooks(s, scratch, p);
+        const std::vector<std::uint32_t>& active = s.active[p];
+        std::vector<NeuronRun>& runs = scratch.runs[p];
+        scratch.next_active.clear();
+        std::size_t a = 0, r = 0;
+        for (;;) {
+          while (r < runs.size() && (runs[r].next == runs[r].end || bucket[runs[r].next].time >= segment_end)) ++r;
+          const bool has_event = r < runs.size();
+          const bool has_active = a < active.size();
+          if (!has_event && !has_active) break;
+          std::uint32_t n;
+          if (has_event && (!has_active || runs[r].neuron <= active[a])) n = runs[r].neuron;
+          else n = active[a];
+          if (has_active && active[a] == n) ++a;
 
-        scratch.inputs.clear();
-        for (; e < bucket.size() && bucket[e].population == p && bucket[e].neuron == n; ++e) {
-          const PendingEvent& ev = bucket[e];
-          NeuronInput in;
-          in.time = ev.time;
-          in.kind = ev.kind;
-          in.slot = ev.slot;
-          if (ev.kind == InputKind::synaptic) {
-            const Pathway& path = net.pathways[ev.pathway];
-            in.amount = path.weight_at(ev.synapse, ev.time);
-            in.receptor = path.receptor;
-            ++summary.synaptic_events;
-          } else {
-            in.amount = ev.amount;
+          scratch.inputs.clear();
+          if (has_event && runs[r].neuron == n) {
+            NeuronRun& run = runs[r];
+            for (; run.next < run.end && bucket[run.next].time < segment_end; ++run.next) {
+              const PendingEvent& ev = bucket[run.next];
+              NeuronInput in;
+              in.time = ev.time;
+              in.kind = ev.kind;
+              in.slot = ev.slot;
+              in.amount = ev.amount;
+              if (ev.kind == InputKind::synaptic) {
+                in.pathway = ev.pathway;
+                in.synapse = ev.synapse;
+                in.receptor = net.pathways[ev.pathway].receptor;
+                ++summary.synaptic_events;
+              }
+              scratch.inputs.push_back(in);
+            }
+            ++r;
           }
-          scratch.inputs.push_back(in);
+          scratch.neuron_spikes.clear();
+          group.process(n, scratch.inputs, segment_end, scratch.neuron_spikes, scratch.samples[p], hooks);
+          for (double t : scratch.neuron_spikes) scratch.spikes.push_back({t, s.group_offset[p] + n, p, n});
+          if (group.may_fire_without_input(n)) scratch.next_active.push_back(n);
         }
-        scratch.neuron_spikes.clear();
-        group.process(n, scratch.inputs, t_end, scratch.neuron_spikes, scratch.samples[p]);
-        for (double t : scratch.neuron_spikes) scratch.spikes.push_back({t, s.group_offset[p] + n, p, n});
-        if (group.may_fire_without_input(n)) scratch.next_active.push_back(n);
+        // Neurons with events left for later segments stay in the active set until then.
+        for (const NeuronRun& run : runs)
+          if (run.next < run.end) scratch.next_active.push_back(run.neuron);
+        std::sort(scratch.next_active.begin(), scratch.next_active.end());
+        scratch.next_active.erase(std::unique(scratch.next_active.begin(), scratch.next_active.end()),
+                                  scratch.next_active.end());
+        s.active[p].swap(scratch.next_active);
       }
-      s.active[p].swap(scratch.next_active);
+      if (g < scratch.globals.size()) apply_global(s, scratch, observer, scratch.globals[g]);
     }
     bucket.clear();
 
     // Spikes of the inputs.
     for (std::uint32_t i = 0; i < s.inputs.size(); ++i) {
-      if (!s.inputs[i].poisson) continue;
+      if (!s.inputs[i].spikes) continue;
       scratch.source_spikes.clear();
-      s.inputs[i].poisson->emit(t_end, scratch.source_spikes);
+      s.inputs[i].spikes->emit(t_end, scratch.source_spikes);
       const auto g = static_cast<std::uint32_t>(n_pop + i);
       for (const SourceSpike& sp : scratch.source_spikes)
         scratch.spikes.push_back({sp.time, s.group_offset[g] + sp.source, g, sp.source});
@@ -202,6 +419,15 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
         scratch.sample_values.push_back(
             scratch.samples[trace.population][(row.first_slot + j) * stride + trace.variable_index]);
       observer.on_sample(row.trace, row.time, scratch.sample_values);
+    }
+    for (std::uint32_t r = 0; r < scratch.changes.size(); ++r) {
+      auto& changes = scratch.changes[r];
+      if (changes.empty()) continue;
+      std::stable_sort(changes.begin(), changes.end(), [](const WeightChange& a, const WeightChange& b) {
+        return std::tie(a.time, a.synapse) < std::tie(b.time, b.synapse);
+      });
+      observer.on_weight_changes(r, changes);
+      changes.clear();
     }
 
     // Deliver: each spike becomes one event per outgoing synapse, in a later window.

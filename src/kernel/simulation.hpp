@@ -15,7 +15,7 @@
 #include <vector>
 
 #include "inputs/current_schedule.hpp"
-#include "inputs/poisson_group.hpp"
+#include "inputs/spike_source.hpp"
 #include "model/model.hpp"
 #include "network/network.hpp"
 #include "network/run_observer.hpp"
@@ -29,7 +29,7 @@ struct BuildOptions {
 
 struct InputGroup {
   std::string name;
-  std::unique_ptr<PoissonGroup> poisson;  // null for current inputs
+  std::unique_ptr<SpikeSource> spikes;  // null for current inputs
 };
 
 // One recorded variable of one trace spec: the unit of RunObserver::on_sample.
@@ -40,6 +40,17 @@ struct TraceStream {
   Dimension dimension = Dimension::voltage;
   std::vector<std::uint32_t> neurons;
   double interval = 0.0;  // s
+};
+
+// One [record.weights.<name>] recorder, resolved.
+struct WeightRecorder {
+  std::string name;
+  std::uint32_t pathway = 0;
+  std::vector<std::uint64_t> synapses;  // the recorded synapses (all of them for "all")
+  std::vector<std::int64_t> position;   // per synapse of the pathway: index in `synapses` or -1 (every_change)
+  double interval = 0.0;
+  bool every_change = false;
+  std::vector<double> snapshots;
 };
 
 enum class EndReason { complete, interrupted };
@@ -72,6 +83,11 @@ class Simulation {
   const std::vector<InputGroup>& inputs() const;
   const std::vector<TraceStream>& traces() const;
   const std::vector<std::uint32_t>& recorded_populations() const;  // population indices
+  const std::vector<WeightRecorder>& weight_recorders() const;
+  // Schedules a reward (neuromodulator pulse) of size r at time t for a pathway with
+  // a reward-modulated rule; for experiments that decide rewards themselves. Times
+  // must not lie in the past of the run. Throws UserError otherwise.
+  void add_reward(const std::string& pathway, double t, double r);
   std::uint64_t seed() const;
   double duration() const;
   double window() const;  // s, the d_min window length

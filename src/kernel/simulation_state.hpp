@@ -25,6 +25,11 @@ struct Simulation::State {
   CurrentSchedule currents;
   std::vector<TraceStream> traces;
   std::vector<std::uint32_t> recorded_populations;
+  std::vector<WeightRecorder> weight_recorders;
+  // Per pathway: recorders that log every change of its synapses.
+  std::vector<std::vector<std::uint32_t>> change_recorders;
+  // Per population: pathways onto it that learn (for postsynaptic spikes).
+  std::vector<std::vector<std::uint32_t>> learning_inputs;
   std::uint64_t seed = 0;
   double duration = 0.0;
   double window = 0.0;
@@ -39,6 +44,10 @@ struct Simulation::State {
   std::uint64_t next_window = 0;
   std::vector<std::vector<PendingEvent>> ring;  // one bucket per future window
   std::vector<std::vector<std::uint32_t>> active;  // per population, sorted
+  std::vector<std::size_t> next_reward;            // per pathway: index into its rewards
+  std::vector<std::uint64_t> next_normalisation;   // per pathway: k of the next k * interval
+  std::vector<std::uint64_t> next_weight_sample;   // per recorder
+  std::vector<std::size_t> next_snapshot;          // per recorder
 };
 
 }  // namespace nvsyn

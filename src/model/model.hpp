@@ -27,7 +27,7 @@ struct PopulationSpec {
   std::shared_ptr<const ParamTable> table;  // the whole [population.<name>] table
 };
 
-enum class InputKindSpec { poisson, current };
+enum class InputKindSpec { poisson, current, times, regular };
 
 struct CurrentStep {
   double time = 0.0;       // s
@@ -42,6 +42,10 @@ struct InputSpec {
   std::uint32_t size = 0;
   double rate = 0.0;  // Hz
   double start = 0.0, stop = 0.0;  // s; stop <= start means "until the end"
+  // times: spike times per source (s, ascending); regular: rate, start, count
+  std::vector<std::vector<double>> spike_times;
+  std::uint32_t count = 0;
+  bool emits_spikes() const { return kind != InputKindSpec::current; }
   // current
   std::string target;                   // population
   std::vector<std::uint32_t> neurons;   // empty: every neuron of the target
@@ -68,6 +72,10 @@ struct PathwaySpec {
   std::shared_ptr<const ParamTable> device;   // preset with overrides applied
   std::string device_preset;                  // preset name ("" when given inline)
   std::string device_preset_text;             // full text of the preset file
+  // Learning ([pathway.<name>.plasticity]) and short-term plasticity of transmission
+  // ([pathway.<name>.short_term]); null when absent. Read when the network is built.
+  std::shared_ptr<const ParamTable> plasticity;
+  std::shared_ptr<const ParamTable> short_term;
 };
 
 struct TraceSpec {
@@ -78,10 +86,22 @@ struct TraceSpec {
   std::shared_ptr<const ParamTable> table;
 };
 
+// Weight recording of one pathway ([record.weights.<name>]).
+struct WeightRecordSpec {
+  std::string pathway;
+  std::vector<std::uint64_t> synapses;  // empty with all_synapses
+  bool all_synapses = false;
+  double interval = 0.0;                // s between samples; 0: no sampling
+  bool every_change = false;            // log every update of the chosen synapses
+  std::vector<double> snapshots;        // s: times of whole-pathway weight snapshots
+  std::shared_ptr<const ParamTable> table;
+};
+
 struct RecordSpec {
   std::vector<std::string> spike_populations;  // default: every population
   std::vector<TraceSpec> traces;
   bool connectivity = true;  // write pre/post/delay/weight of every pathway
+  std::vector<WeightRecordSpec> weights;
 };
 
 struct Model {

@@ -121,6 +121,36 @@ std::vector<CurrentStep> read_steps(const ParamTable& t) {
   return steps;
 }
 
+// times = ["10 ms", "30 ms"] (one source) or [["10 ms"], ["12 ms", "40 ms"]] (one list per source).
+std::vector<std::vector<double>> read_spike_times(const ParamTable& t) {
+  const auto& items = t.array("times");
+  std::vector<std::vector<double>> trains;
+  const bool nested = !items.empty() && items[0].is_array();
+  auto read_train = [&](const ParamValue::Array& list) {
+    std::vector<double> train;
+    for (const ParamValue& v : list) {
+      const double at = ParamTable::to_quantity(v, "times", Dimension::time);
+      if (at < 0) throw UserError(v.where, "times", "spike times must not be negative");
+      if (!train.empty() && at <= train.back())
+        throw UserError(v.where, "times", fmt::format("spike times of a source must increase: {} follows {}",
+                                                      format_quantity(at, Dimension::time),
+                                                      format_quantity(train.back(), Dimension::time)));
+      train.push_back(at);
+    }
+    return train;
+  };
+  if (nested) {
+    for (const ParamValue& v : items) {
+      if (!v.is_array()) throw UserError(v.where, "times", "mix of lists and single times; give one list per source");
+      trains.push_back(read_train(*std::get<std::shared_ptr<ParamValue::Array>>(v.value)));
+    }
+  } else {
+    trains.push_back(read_train(items));
+  }
+  if (trains.empty()) throw t.error("times", "needs at least one source");
+  return trains;
+}
+
 void read_inputs(const ParamTable& root, Model& model) {
   for (auto& [name, t] : named_tables(root, "input", "input")) {
     InputSpec in;
@@ -150,8 +180,20 @@ void read_inputs(const ParamTable& root, Model& model) {
             throw t->error("neurons", fmt::format("neuron {} is outside population '{}' of size {}", n, in.target, target->size));
       }
       in.steps = read_steps(*t);
+    } else if (kind == "times") {
+      in.kind = InputKindSpec::times;
+      in.spike_times = read_spike_times(*t);
+      in.size = static_cast<std::uint32_t>(in.spike_times.size());
+    } else if (kind == "regular") {
+      in.kind = InputKindSpec::regular;
+      in.size = positive_count(*t, "size");
+      in.rate = t->quantity("rate", Dimension::frequency);
+      if (!(in.rate > 0)) throw t->error("rate", "a regular train needs a positive rate");
+      in.start = t->quantity_or("start", Dimension::time, 0.0);
+      if (in.start < 0) throw t->error("start", "must not be negative");
+      in.count = positive_count(*t, "count");
     } else {
-      throw t->error("kind", fmt::format("unknown input kind '{}'; expected poisson or current", kind));
+      throw t->error("kind", fmt::format("unknown input kind '{}'; expected poisson, regular, times or current", kind));
     }
     t->reject_unknown_keys();
     model.inputs.push_back(std::move(in));
@@ -160,18 +202,23 @@ void read_inputs(const ParamTable& root, Model& model) {
 
 std::uint32_t group_size(const Model& model, const std::string& name) {
   if (auto p = model.find_population(name)) return p->size;
-  if (auto i = model.find_input(name)) return i->kind == InputKindSpec::poisson ? i->size : 0;
+  if (auto i = model.find_input(name)) return i->emits_spikes() ? i->size : 0;
   return 0;
+}
+
+// A sub-table that the model keeps, with a context for its messages.
+std::shared_ptr<ParamTable> sub_table(const ParamTable& parent, const std::string& key, const std::string& context) {
+  const ParamValue& v = parent.value(key);
+  if (!v.is_table()) throw UserError(v.where, key, fmt::format("expected a table, got a {}", v.type_name()));
+  auto table = std::get<std::shared_ptr<ParamTable>>(v.value);
+  table->set_context(context);
+  return table;
 }
 
 // [pathway.<name>.synapse]: a device preset (or an inline [..synapse.device] table)
 // with overrides. The layout, gain and policy keys are read when the network is built.
 void read_synapse(const ParamTable& pathway, PathwaySpec& p, const std::string& file) {
-  const ParamValue& v = pathway.value("synapse");
-  if (!v.is_table())
-    throw UserError(v.where, "synapse", fmt::format("expected a table [pathway.{}.synapse], got a {}", p.name, v.type_name()));
-  auto synapse = std::get<std::shared_ptr<ParamTable>>(v.value);
-  synapse->set_context(fmt::format("synapse of pathway '{}'", p.name));
+  auto synapse = sub_table(pathway, "synapse", fmt::format("synapse of pathway '{}'", p.name));
   std::shared_ptr<ParamTable> base = std::make_shared<ParamTable>();
   if (synapse->has("preset")) {
     const ParamValue& ref = synapse->value("preset");
@@ -201,7 +248,7 @@ void read_pathways(const ParamTable& root, Model& model, const std::string& file
     const InputSpec* input = model.find_input(p.from);
     if (!model.find_population(p.from) && !input)
       throw t->error("from", fmt::format("no population or input named '{}'", p.from));
-    if (input && input->kind != InputKindSpec::poisson)
+    if (input && !input->emits_spikes())
       throw t->error("from", fmt::format("input '{}' injects current and emits no spikes; it cannot start a pathway", p.from));
     const PopulationSpec* target = model.find_population(p.to);
     if (!target) throw t->error("to", fmt::format("no population named '{}'", p.to));
@@ -263,6 +310,10 @@ void read_pathways(const ParamTable& root, Model& model, const std::string& file
                                     : "a delay distribution must exclude zero: give 'low' > 0");
     }
     if (t->has("synapse")) read_synapse(*t, p, file);
+    if (t->has("plasticity"))
+      p.plasticity = sub_table(*t, "plasticity", fmt::format("plasticity of pathway '{}'", p.name));
+    if (t->has("short_term"))
+      p.short_term = sub_table(*t, "short_term", fmt::format("short-term plasticity of pathway '{}'", p.name));
     t->reject_unknown_keys();
     model.pathways.push_back(std::move(p));
   }
@@ -278,6 +329,48 @@ void read_record(const ParamTable& root, Model& model) {
       if (!model.find_population(name)) throw t->error("spikes", fmt::format("no population named '{}'", name));
   }
   model.record.connectivity = t->flag_or("connectivity", true);
+  if (t->has("weights")) {
+    const ParamValue& weights = t->value("weights");
+    if (!weights.is_table()) throw UserError(weights.where, "weights", "expected tables such as [record.weights.<name>]");
+    const auto& wt = *std::get<std::shared_ptr<ParamTable>>(weights.value);
+    for (const auto& name : wt.keys()) {
+      auto table = wt.table(name);
+      WeightRecordSpec w;
+      w.table = table;
+      w.pathway = table->text("pathway");
+      auto path = std::find_if(model.pathways.begin(), model.pathways.end(),
+                               [&](const PathwaySpec& p) { return p.name == w.pathway; });
+      if (path == model.pathways.end()) throw table->error("pathway", fmt::format("no pathway named '{}'", w.pathway));
+      for (const auto& other : model.record.weights)
+        if (other.pathway == w.pathway)
+          throw table->error("pathway", fmt::format("pathway '{}' already has a weight recording; give one table "
+                                                    "per pathway", w.pathway));
+      if (table->has("synapses")) {
+        const ParamValue& v = table->value("synapses");
+        if (v.is_string() && std::get<std::string>(v.value) == "all") {
+          w.all_synapses = true;
+        } else {
+          for (std::uint32_t k : index_list(*table, "synapses")) w.synapses.push_back(k);
+        }
+      } else {
+        w.all_synapses = true;
+      }
+      w.interval = table->quantity_or("interval", Dimension::time, 0.0);
+      if (w.interval < 0) throw table->error("interval", "must not be negative (0: no periodic samples)");
+      w.every_change = table->flag_or("every_change", false);
+      if (table->has("snapshots"))
+        for (const ParamValue& item : table->array("snapshots")) {
+          const double at = ParamTable::to_quantity(item, "snapshots", Dimension::time);
+          if (at < 0) throw UserError(item.where, "snapshots", "snapshot times must not be negative");
+          w.snapshots.push_back(at);
+        }
+      std::sort(w.snapshots.begin(), w.snapshots.end());
+      if (w.interval == 0 && !w.every_change && w.snapshots.empty())
+        throw table->error("interval", "records nothing: give 'interval', 'every_change = true' or 'snapshots'");
+      table->reject_unknown_keys();
+      model.record.weights.push_back(std::move(w));
+    }
+  }
   if (t->has("trace")) {
     const ParamValue& traces = t->value("trace");
     if (!traces.is_table()) throw UserError(traces.where, "trace", "expected tables such as [record.trace.<name>]");

@@ -2,14 +2,18 @@
 // A built network: populations of neurons and the pathways between them.
 // Spike sources (src/inputs) live beside it in the Simulation; a pathway names
 // its source group, which is either a population or an input.
+#include <cmath>
 #include <cstdint>
+#include <limits>
 #include <memory>
 #include <string>
 #include <vector>
 
 #include "devices/synapse_devices.hpp"
 #include "neurons/neuron_group.hpp"
+#include "plasticity/learning_rule.hpp"
 #include "plasticity/programming_policy.hpp"
+#include "plasticity/short_term_plasticity.hpp"
 #include "network/synapse_store.hpp"
 
 namespace nvsyn {
@@ -31,6 +35,7 @@ struct Pathway {
   std::string from, to;
   GroupRef source;
   std::uint32_t target = 0;  // population index
+  std::uint32_t target_size = 0;
   Receptor receptor = Receptor::excitatory;
   std::string wiring;
   SynapseStore synapses;  // weight[] holds the requested (target) weights
@@ -42,6 +47,35 @@ struct Pathway {
   std::string device_preset_text;  // full preset file text
   WriteSummary initial_write;      // how well the initial weights were programmed
   std::vector<double> initial_weight;  // A, per synapse, as programmed at t = 0
+
+  // Learning: rule, when it is active, rewards, normalisation.
+  std::unique_ptr<LearningRule> rule;
+  double learn_from = 0.0;                            // s
+  double learn_until = std::numeric_limits<double>::infinity();  // s
+  std::vector<std::pair<double, double>> rewards;     // (time s, size), ascending
+  double normalise_interval = 0.0;                    // s; 0: off
+  double normalise_total = 0.0;                       // A, sum of |w| onto each neuron
+  // Incoming synapses of each target neuron (for postsynaptic spikes and normalisation).
+  std::vector<std::uint64_t> incoming_begin;          // n_target + 1
+  std::vector<std::uint64_t> incoming;                // synapse indices, by target
+  UpdateLedger plain_ledger;                          // requested vs realised, floating-point weights
+  // Short-term plasticity of transmission (Tsodyks-Markram); null when absent.
+  std::unique_ptr<ShortTermPlasticity> short_term;
+
+  bool learning_at(double t) const { return rule && t >= learn_from && t < learn_until; }
+  const UpdateLedger& ledger() const { return devices ? policy->ledger() : plain_ledger; }
+  // Present |w| of synapse k as a learning rule sees it: the programmed device
+  // weight (no drift, no read noise), or the floating-point weight.
+  double magnitude(std::uint64_t k) const {
+    return devices ? devices->weight_programmed(k) : std::abs(synapses.weight[k]);
+  }
+  // Effective weight without read noise at time t (for recording): drift plus the
+  // short-term component.
+  double weight_record(std::uint64_t k, double t) const {
+    double w = devices ? devices->weight_mean(k, t) : std::abs(synapses.weight[k]);
+    if (rule && rule->has_short_term_component()) w = std::max(0.0, w + rule->short_term_component(k, t));
+    return sign() * w;
+  }
 
   double sign() const { return receptor == Receptor::excitatory ? 1.0 : -1.0; }
   // The weight the target neuron sees for synapse k at time t (A).

@@ -7,6 +7,15 @@
 
 namespace nvsyn {
 
+// One weight update of a recorded synapse.
+struct WeightChange {
+  double time = 0.0;        // s
+  std::uint64_t synapse = 0;
+  double requested = 0.0;   // A, change of |w| the rule asked for
+  double realised = 0.0;    // A, change of |w| the devices (or bounds) allowed
+  std::uint8_t route = 0;   // UpdateRoute: 0 none, 1 direct, 2 differential partner
+};
+
 class RunObserver {
  public:
   virtual ~RunObserver() = default;
@@ -16,6 +25,12 @@ class RunObserver {
                          std::span<const std::uint32_t> neurons) = 0;
   // One sample row of trace `trace`: values of its neurons at `time`.
   virtual void on_sample(std::uint32_t trace, double time, std::span<const double> values) = 0;
+  // Weight recorder `recorder` ([record.weights.<name>]): effective weights of its
+  // synapses at `time` (periodic samples), every change of them (sorted by time within
+  // a window), and whole-pathway snapshots.
+  virtual void on_weight_sample(std::uint32_t /*recorder*/, double /*time*/, std::span<const double> /*weights*/) {}
+  virtual void on_weight_changes(std::uint32_t /*recorder*/, std::span<const WeightChange> /*changes*/) {}
+  virtual void on_weight_snapshot(std::uint32_t /*recorder*/, double /*time*/, std::span<const double> /*weights*/) {}
   // The kernel finished all events before model time `time`.
   virtual void on_progress(double /*time*/) {}
 };

@@ -20,6 +20,10 @@ LifParameters LifParameters::from_table(const ParamTable& t) {
   p.tau_exc = t.quantity_or("tau_exc", Dimension::time, p.tau_exc);
   p.tau_inh = t.quantity_or("tau_inh", Dimension::time, p.tau_inh);
   p.bias = t.quantity_or("bias", Dimension::current, p.bias);
+  p.threshold_step = t.quantity_or("threshold_step", Dimension::voltage, 0.0);
+  p.tau_threshold = t.quantity_or("tau_threshold", Dimension::time, p.tau_threshold);
+  if (p.threshold_step < 0) throw t.error("threshold_step", "must not be negative");
+  if (!(p.tau_threshold > 0)) throw t.error("tau_threshold", "must be positive");
   p.v_init = t.has("v_init") ? read_distribution(t, "v_init", Dimension::voltage)
                              : Distribution::constant(p.v_rest);
 
@@ -43,8 +47,8 @@ LifParameters LifParameters::from_table(const ParamTable& t) {
 
 // ---------------------------------------------------------------- trajectory
 
-LifTrajectory::LifTrajectory(const LifParameters& p, const LifState& start, double drive)
-    : p_(p), start_(start), drive_(drive), v_inf_(p.v_rest + p.resistance() * drive) {
+LifTrajectory::LifTrajectory(const LifParameters& p, const LifState& start, double drive, double theta)
+    : p_(p), start_(start), drive_(drive), theta_(theta), v_inf_(p.v_rest + p.resistance() * drive) {
   const double taus[2] = {p.tau_exc, p.tau_inh};
   for (int c = 0; c < 2; ++c) {
     decay_rate_[c] = 1.0 / taus[c] - 1.0 / p.tau_m;
@@ -61,6 +65,10 @@ double LifTrajectory::kernel(int c, double s) const {
 double LifTrajectory::v_at(double s) const {
   const double em = std::exp(-s / p_.tau_m);
   return v_inf_ + (start_.v - v_inf_) * em + (start_.i_exc * kernel(0, s) + start_.i_inh * kernel(1, s)) / p_.capacitance;
+}
+
+double LifTrajectory::margin_at(double s) const {
+  return theta_ == 0.0 ? v_at(s) : v_at(s) - theta_ * std::exp(-s / p_.tau_threshold);
 }
 
 LifState LifTrajectory::state_at(double s) const {
@@ -81,6 +89,8 @@ double LifTrajectory::v_upper_bound(double a, double b) const {
                                      : std::min(kernel(c, a), kernel(c, b));
     bound += currents[c] * k / p_.capacitance;
   }
+  // -theta e^{-s/tau} rises towards 0: its largest value on [a, b] is at b.
+  if (theta_ != 0.0) bound -= theta_ * std::exp(-b / p_.tau_threshold);
   return bound;
 }
 
@@ -98,13 +108,13 @@ std::optional<double> LifTrajectory::first_crossing(double threshold, double hor
     const Interval iv = stack[--top];
     if (v_upper_bound(iv.a, iv.b) < threshold) continue;
     const double width = iv.b - iv.a;
-    if (v_at(iv.b) >= threshold && width <= kIsolate) {
+    if (margin_at(iv.b) >= threshold && width <= kIsolate) {
       // Refine the bracket (V(a) < threshold <= V(b)) by bisection to full precision.
       double lo = iv.a, hi = iv.b;
       for (int k = 0; k < 80; ++k) {
         const double mid = 0.5 * (lo + hi);
         if (mid <= lo || mid >= hi) break;
-        (v_at(mid) >= threshold ? hi : lo) = mid;
+        (margin_at(mid) >= threshold ? hi : lo) = mid;
       }
       return hi;
     }
@@ -126,7 +136,8 @@ LifGroup::LifGroup(std::uint32_t size, LifParameters params, std::uint64_t seed,
       i_inh_(size, 0.0),
       i_injected_(size, 0.0),
       t_last_(size, 0.0),
-      refractory_until_(size, -1.0) {
+      refractory_until_(size, -1.0),
+      theta_(size, 0.0) {
   const LifTrajectory unit(p_, {0.0, 0.0, 0.0}, 0.0);
   kernel_peak_[0] = unit.kernel_peak(0);
   kernel_peak_[1] = unit.kernel_peak(1);
@@ -139,6 +150,7 @@ LifGroup::LifGroup(std::uint32_t size, LifParameters params, std::uint64_t seed,
 void LifGroup::advance(std::uint32_t n, double t) {
   double s = t - t_last_[n];
   if (!(s > 0)) return;
+  if (theta_[n] != 0.0) theta_[n] *= std::exp(-s / p_.tau_threshold);
   if (t_last_[n] < refractory_until_[n]) {
     // Held at reset: only the synaptic currents decay.
     const double held = std::min(t, refractory_until_[n]) - t_last_[n];
@@ -170,7 +182,7 @@ double LifGroup::cheap_upper_bound(std::uint32_t n) const {
          (std::max(i_exc_[n], 0.0) * kernel_peak_[0] + std::max(i_inh_[n], 0.0) * kernel_peak_[1]) / p_.capacitance;
 }
 
-void LifGroup::fire_until(std::uint32_t n, double t_limit, std::vector<double>& spikes) {
+void LifGroup::fire_until(std::uint32_t n, double t_limit, std::vector<double>& spikes, SpikeHooks& hooks) {
   for (;;) {
     if (cheap_upper_bound(n) < p_.v_threshold) return;
     if (t_last_[n] < refractory_until_[n]) {
@@ -179,7 +191,7 @@ void LifGroup::fire_until(std::uint32_t n, double t_limit, std::vector<double>& 
     }
     const double horizon = t_limit - t_last_[n];
     if (!(horizon > 0)) return;
-    LifTrajectory traj(p_, {v_[n], i_exc_[n], i_inh_[n]}, p_.bias + i_injected_[n]);
+    LifTrajectory traj(p_, {v_[n], i_exc_[n], i_inh_[n]}, p_.bias + i_injected_[n], theta_[n]);
     const auto crossing = traj.first_crossing(p_.v_threshold, horizon);
     if (!crossing) return;
     const double t_spike = t_last_[n] + *crossing;
@@ -192,29 +204,33 @@ void LifGroup::fire_until(std::uint32_t n, double t_limit, std::vector<double>& 
     i_inh_[n] = at.i_inh;
     t_last_[n] = t_spike;
     refractory_until_[n] = t_spike + p_.refractory;
+    if (p_.threshold_step > 0)
+      theta_[n] = theta_[n] * std::exp(-*crossing / p_.tau_threshold) + p_.threshold_step;
+    hooks.on_spike(n, t_spike);
   }
 }
 
 void LifGroup::process(std::uint32_t n, std::span<const NeuronInput> inputs, double t_end,
-                       std::vector<double>& spikes, std::span<double> samples) {
+                       std::vector<double>& spikes, std::span<double> samples, SpikeHooks& hooks) {
   for (const NeuronInput& in : inputs) {
-    fire_until(n, in.time, spikes);
+    fire_until(n, in.time, spikes, hooks);
     advance(n, in.time);
     switch (in.kind) {
       case InputKind::synaptic:
-        (in.receptor == Receptor::excitatory ? i_exc_[n] : i_inh_[n]) += in.amount;
+        (in.receptor == Receptor::excitatory ? i_exc_[n] : i_inh_[n]) += hooks.synaptic_amount(n, in);
         break;
       case InputKind::current_change:
         i_injected_[n] += in.amount;
         break;
       case InputKind::sample:
-        samples[in.slot * 3 + 0] = v_[n];
-        samples[in.slot * 3 + 1] = i_exc_[n];
-        samples[in.slot * 3 + 2] = i_inh_[n];
+        samples[in.slot * 4 + 0] = v_[n];
+        samples[in.slot * 4 + 1] = i_exc_[n];
+        samples[in.slot * 4 + 2] = i_inh_[n];
+        samples[in.slot * 4 + 3] = p_.v_threshold + theta_[n];
         break;
     }
   }
-  fire_until(n, t_end, spikes);
+  fire_until(n, t_end, spikes, hooks);
   if (!std::isfinite(v_[n]))
     throw InternalError(fmt::format("lif neuron {}: membrane potential is not finite at t = {} s", n, t_last_[n]));
 }
@@ -225,10 +241,11 @@ bool LifGroup::may_fire_without_input(std::uint32_t n) const {
 }
 
 std::span<const TraceVariable> LifGroup::variables() const {
-  static constexpr std::array<TraceVariable, 3> kVariables{{
+  static constexpr std::array<TraceVariable, 4> kVariables{{
       {"v", Dimension::voltage},
       {"i_exc", Dimension::current},
       {"i_inh", Dimension::current},
+      {"threshold", Dimension::voltage},
   }};
   return kVariables;
 }

@@ -21,8 +21,15 @@
 // to machine precision. The first crossing is always found; trajectories that graze
 // threshold by less than the floating-point resolution may be missed.
 //
+// Homeostasis (optional): an adaptive threshold v_threshold + theta(t), where theta
+// jumps by threshold_step at every spike and decays with tau_threshold (the adaptive
+// threshold used for competitive learning, e.g. Diehl & Cook, Front. Comput. Neurosci.
+// 9:99, 2015). The crossing search then uses V(s) - theta_0 e^{-s/tau_threshold},
+// whose extra term rises monotonically, so the interval bound stays rigorous.
+//
 // Model-file parameters (all with units): tau_m, capacitance, v_rest, v_threshold,
-// v_reset, refractory, tau_exc, tau_inh, bias (A), v_init (a value or distribution).
+// v_reset, refractory, tau_exc, tau_inh, bias (A), v_init (a value or distribution),
+// threshold_step (V), tau_threshold (s).
 #include <memory>
 #include <optional>
 
@@ -43,6 +50,8 @@ struct LifParameters {
   double tau_inh = 10e-3;       // s
   double bias = 0.0;            // A
   Distribution v_init = Distribution::constant(-65e-3);  // V
+  double threshold_step = 0.0;  // V, added to the adaptive threshold at each spike
+  double tau_threshold = 1.0;   // s, decay of the adaptive threshold
 
   static LifParameters from_table(const ParamTable& table);
   double resistance() const { return tau_m / capacitance; }
@@ -57,12 +66,14 @@ struct LifState {
 
 class LifTrajectory {
  public:
-  LifTrajectory(const LifParameters& p, const LifState& start, double drive);
+  LifTrajectory(const LifParameters& p, const LifState& start, double drive, double theta = 0.0);
   double v_at(double s) const;
+  // V(s) minus the adaptive part of the threshold: crossing means margin >= v_threshold.
+  double margin_at(double s) const;
   LifState state_at(double s) const;
-  // Upper bound of V over [a, b] (0 <= a <= b).
+  // Upper bound of the margin over [a, b] (0 <= a <= b).
   double v_upper_bound(double a, double b) const;
-  // First s in (0, horizon) with V(s) >= threshold, if any.
+  // First s in (0, horizon) with margin(s) >= threshold, if any.
   std::optional<double> first_crossing(double threshold, double horizon) const;
   // Largest value of the kernel K_c over all s >= 0 (at its peak), in s.
   double kernel_peak(int channel) const { return kernel(channel, peak_s_[channel]); }
@@ -72,6 +83,7 @@ class LifTrajectory {
   const LifParameters& p_;
   LifState start_;
   double drive_;          // I_0, A
+  double theta_;          // V, adaptive threshold at s = 0
   double v_inf_;          // v_rest + R I_0
   double decay_rate_[2];  // d_x = 1/tau_x - 1/tau_m
   double peak_s_[2];      // peak time of K_x
@@ -84,17 +96,17 @@ class LifGroup final : public NeuronGroup {
   std::string_view model_name() const override { return "lif"; }
   std::uint32_t size() const override { return static_cast<std::uint32_t>(v_.size()); }
   void process(std::uint32_t neuron, std::span<const NeuronInput> inputs, double t_end,
-               std::vector<double>& spikes, std::span<double> samples) override;
+               std::vector<double>& spikes, std::span<double> samples, SpikeHooks& hooks) override;
   bool may_fire_without_input(std::uint32_t neuron) const override;
   std::span<const TraceVariable> variables() const override;
-  std::size_t bytes_per_neuron() const override { return 6 * sizeof(double); }
+  std::size_t bytes_per_neuron() const override { return 7 * sizeof(double); }
 
   const LifParameters& parameters() const { return p_; }
   double v(std::uint32_t neuron) const { return v_[neuron]; }
 
  private:
   void advance(std::uint32_t n, double t);
-  void fire_until(std::uint32_t n, double t_limit, std::vector<double>& spikes);
+  void fire_until(std::uint32_t n, double t_limit, std::vector<double>& spikes, SpikeHooks& hooks);
   // Upper bound of V over all future times without further input; costs no exp().
   double cheap_upper_bound(std::uint32_t n) const;
 
@@ -102,6 +114,7 @@ class LifGroup final : public NeuronGroup {
   double kernel_peak_[2];  // s, maxima of K_exc and K_inh
   // structure of arrays, one entry per neuron
   std::vector<double> v_, i_exc_, i_inh_, i_injected_, t_last_, refractory_until_;
+  std::vector<double> theta_;  // V, adaptive threshold at t_last
 };
 
 }  // namespace nvsyn

@@ -25,10 +25,33 @@ enum class InputKind : std::uint8_t { current_change = 0, synaptic = 1, sample =
 
 struct NeuronInput {
   double time = 0.0;       // s
-  double amount = 0.0;     // A: current jump (synaptic) or change of injected current
+  double amount = 0.0;     // A: change of injected current; for synaptic input see SpikeHooks
+  std::uint64_t synapse = 0;   // synaptic: index within its pathway
+  std::uint32_t pathway = 0;   // synaptic: pathway index
   std::uint32_t slot = 0;  // for samples: row of the sample buffer to fill
   InputKind kind = InputKind::synaptic;
   Receptor receptor = Receptor::excitatory;
+};
+
+// How a neuron model talks back to the kernel while it works through a window, in
+// time order: the amplitude of a synaptic input is asked for at the moment it is
+// applied (so plasticity caused by an earlier spike of the same window is seen), and
+// each spike is announced as soon as it is found (so learning rules see it before
+// any later input).
+class SpikeHooks {
+ public:
+  virtual ~SpikeHooks() = default;
+  // Current jump (A) of a synaptic input at its arrival time.
+  virtual double synaptic_amount(std::uint32_t neuron, const NeuronInput& in) = 0;
+  // The neuron fired at time t.
+  virtual void on_spike(std::uint32_t neuron, double t) = 0;
+};
+
+// Hooks for a neuron used on its own: inputs carry their amplitude in `amount`.
+class PlainInputs final : public SpikeHooks {
+ public:
+  double synaptic_amount(std::uint32_t, const NeuronInput& in) override { return in.amount; }
+  void on_spike(std::uint32_t, double) override {}
 };
 
 // A variable that can be recorded as a trace.
@@ -49,7 +72,7 @@ class NeuronGroup {
   // to `spikes`. For each sample input, writes variables() values of the neuron at
   // that time into samples[slot * variables().size() + k].
   virtual void process(std::uint32_t neuron, std::span<const NeuronInput> inputs, double t_end,
-                       std::vector<double>& spikes, std::span<double> samples) = 0;
+                       std::vector<double>& spikes, std::span<double> samples, SpikeHooks& hooks) = 0;
 
   // False when, without further input, the neuron can provably never reach
   // threshold: the kernel then stops visiting it.

@@ -29,11 +29,8 @@ PolicyParameters PolicyParameters::from_table(const ParamTable& t) {
 
 ProgrammingPolicy::ProgrammingPolicy(const PolicyParameters& params, std::size_t synapses, std::uint64_t seed,
                                      std::uint32_t pathway_id)
-    : p_(params), seed_(seed), pathway_id_(pathway_id) {
+    : p_(params), seed_(seed), pathway_id_(pathway_id), ledger_(synapses) {
   if (p_.rounding == Rounding::accumulate) accumulator_.assign(synapses, 0.0);
-  ledger_.requested.assign(synapses, 0.0);
-  ledger_.realised.assign(synapses, 0.0);
-  ledger_.updates.assign(synapses, 0);
 }
 
 UpdateOutcome ProgrammingPolicy::apply(SynapseDevices& synapses, std::size_t k, double dw, double t) {
@@ -87,17 +84,17 @@ UpdateOutcome ProgrammingPolicy::apply(SynapseDevices& synapses, std::size_t k, 
   return out;
 }
 
-void ProgrammingPolicy::record(std::size_t k, const UpdateOutcome& o) {
-  ledger_.requested[k] += o.requested;
-  ledger_.realised[k] += o.realised;
-  ++ledger_.updates[k];
-  ++ledger_.total_updates;
-  ledger_.total_pulses += o.pulses;
-  if (o.route == UpdateRoute::partner) ++ledger_.routed_partner;
-  if (o.requested != 0.0 && o.route == UpdateRoute::none) ++ledger_.unrealisable;
-  ledger_.sum_requested += o.requested;
-  ledger_.sum_realised += o.realised;
-  ledger_.sum_squared_error += (o.realised - o.requested) * (o.realised - o.requested);
+void UpdateLedger::add(std::size_t k, const UpdateOutcome& o) {
+  requested[k] += o.requested;
+  realised[k] += o.realised;
+  ++updates[k];
+  ++total_updates;
+  total_pulses += o.pulses;
+  if (o.route == UpdateRoute::partner) ++routed_partner;
+  if (o.requested != 0.0 && o.route == UpdateRoute::none) ++unrealisable;
+  sum_requested += o.requested;
+  sum_realised += o.realised;
+  sum_squared_error += (o.realised - o.requested) * (o.realised - o.requested);
 }
 
 }  // namespace nvsyn

@@ -47,6 +47,10 @@ struct UpdateLedger {
   std::vector<std::uint32_t> updates;
   std::uint64_t total_updates = 0, total_pulses = 0, routed_partner = 0, unrealisable = 0;
   double sum_requested = 0, sum_realised = 0, sum_squared_error = 0;
+
+  explicit UpdateLedger(std::size_t synapses = 0)
+      : requested(synapses, 0.0), realised(synapses, 0.0), updates(synapses, 0) {}
+  void add(std::size_t k, const UpdateOutcome& o);
 };
 
 class ProgrammingPolicy {
@@ -64,7 +68,7 @@ class ProgrammingPolicy {
   }
 
  private:
-  void record(std::size_t k, const UpdateOutcome& o);
+  void record(std::size_t k, const UpdateOutcome& o) { ledger_.add(k, o); }
 
   PolicyParameters p_;
   std::uint64_t seed_;

@@ -29,8 +29,9 @@ std::vector<double> run_alone(const LifParameters& p, std::vector<NeuronInput> i
                               std::vector<double>* samples = nullptr) {
   LifGroup group(1, p, 1, 0);
   std::vector<double> spikes;
-  std::vector<double> sample_buffer(inputs.size() * 3);
-  group.process(0, inputs, t_end, spikes, sample_buffer);
+  std::vector<double> sample_buffer(inputs.size() * 4);
+  PlainInputs hooks;
+  group.process(0, inputs, t_end, spikes, sample_buffer, hooks);
   if (samples) *samples = sample_buffer;
   return spikes;
 }
@@ -115,7 +116,7 @@ TEST_CASE("one exponential synaptic input follows the closed form", "[lif]") {
   double max_psp = 0;
   for (double t : times) max_psp = std::max(max_psp, psp(p, w, p.tau_exc, t));
   for (std::size_t k = 0; k < times.size(); ++k) {
-    const double v = samples[(k + 1) * 3];
+    const double v = samples[(k + 1) * 4];
     const double ref = p.v_rest + psp(p, w, p.tau_exc, times[k]);
     INFO("t = " << times[k]);
     REQUIRE(std::abs(v - ref) <= 1e-12 * std::abs(ref));
@@ -139,7 +140,7 @@ TEST_CASE("equal synaptic and membrane time constants use the limit form", "[lif
   std::vector<double> samples;
   run_alone(p, inputs, 0.01, &samples);
   const double ref = w / p.capacitance * 7e-3 * std::exp(-7e-3 / p.tau_m);
-  CHECK(std::abs((samples[3] - p.v_rest) - ref) <= 1e-12 * ref);
+  CHECK(std::abs((samples[4] - p.v_rest) - ref) <= 1e-12 * ref);
 }
 
 TEST_CASE("a spike caused by synaptic input is timed to 1e-9 s", "[lif]") {
@@ -177,7 +178,7 @@ TEST_CASE("refractory period holds the potential at reset", "[lif]") {
   const auto spikes = run_alone(p, inputs, 4.6e-3, &samples);
   REQUIRE(spikes.size() == 1);
   REQUIRE(spikes[0] < 4e-3);
-  CHECK(samples[2 * 3] == p.v_reset);
+  CHECK(samples[2 * 4] == p.v_reset);
 }
 
 TEST_CASE("a quiescent neuron reports that it cannot fire without input", "[lif]") {

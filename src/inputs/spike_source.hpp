@@ -1,0 +1,26 @@
+#pragma once
+// A group of spike sources (an input of a model): the kernel asks it, window by
+// window, for the spikes before t_end. Sources keep their own position, so the
+// spikes never depend on the window length.
+#include <cstdint>
+#include <string>
+#include <vector>
+
+namespace nvsyn {
+
+struct SourceSpike {
+  double time = 0.0;
+  std::uint32_t source = 0;
+};
+
+class SpikeSource {
+ public:
+  virtual ~SpikeSource() = default;
+  virtual std::uint32_t size() const = 0;
+  // Appends every spike with time < t_end not given before (any order; the kernel sorts).
+  virtual void emit(double t_end, std::vector<SourceSpike>& out) = 0;
+  // One line for `nvsyn check`, e.g. "Poisson sources at 5 Hz".
+  virtual std::string describe() const = 0;
+};
+
+}  // namespace nvsyn
