@@ -184,3 +184,41 @@ TEST_CASE("reward-modulated STDP through the kernel: no reward, no change", "[ke
   REQUIRE(d.changes.size() == 1);
   CHECK(d.changes[0].time == 3.11);
 }
+
+TEST_CASE("normalisation scales each neuron's incoming weights to the stated total", "[kernel][homeostasis]") {
+  const std::string text = R"(
+[simulation]
+duration = "1.05 s"
+seed = 4
+
+[population.cells]
+size = 5
+
+[input.drive]
+kind = "poisson"
+size = 40
+rate = "20 Hz"
+
+[pathway.learn]
+from = "drive"
+to = "cells"
+wiring = "all_to_all"
+weight = { dist = "uniform", low = "0.01 nA", high = "0.1 nA" }
+delay = "1 ms"
+
+[pathway.learn.plasticity]
+rule = "pair_stdp"
+w_max = "0.2 nA"
+a_plus = 0.0
+a_minus = 0.0
+normalise_interval = "1 s"
+normalise_total = "2 nA"
+)";
+  Simulation sim = Simulation::build(read_model_text(text, "norm.toml"));
+  test::SpikeCollector c;
+  sim.run(c);
+  const Pathway& p = sim.network().pathways[0];
+  std::vector<double> total(5, 0.0);
+  for (std::uint64_t k = 0; k < p.synapses.size(); ++k) total[p.synapses.post[k]] += p.synapses.weight[k];
+  for (double t : total) CHECK(t == Approx(2e-9).epsilon(1e-12));
+}

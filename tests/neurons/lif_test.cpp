@@ -199,3 +199,31 @@ TEST_CASE("invalid LIF parameters name the key", "[lif]") {
   u.set("v_threshold", ParamValue{std::string("-70 mV"), SourcePosition{"m.toml", 3, 1}});
   CHECK_THROWS_WITH(LifParameters::from_table(u), Catch::Contains("above v_reset"));
 }
+
+TEST_CASE("the adaptive threshold rises by its step at each spike and decays exponentially", "[lif][homeostasis]") {
+  LifParameters p = base_parameters();
+  p.bias = 1.0e-9;
+  p.threshold_step = 2e-3;
+  p.tau_threshold = 0.2;
+  std::vector<NeuronInput> inputs;
+  for (int k = 1; k <= 100; ++k) {
+    NeuronInput s;
+    s.time = k * 5e-3;
+    s.kind = InputKind::sample;
+    s.slot = static_cast<std::uint32_t>(k - 1);
+    inputs.push_back(s);
+  }
+  std::vector<double> samples;
+  const auto spikes = run_alone(p, inputs, 0.5, &samples);
+  REQUIRE(spikes.size() > 5);
+  // Independent: theta(t) = sum over earlier spikes of step * exp(-(t - t_k) / tau).
+  for (int k = 1; k <= 100; ++k) {
+    const double t = k * 5e-3;
+    double theta = 0;
+    for (double ts : spikes)
+      if (ts <= t) theta += p.threshold_step * std::exp(-(t - ts) / p.tau_threshold);
+    REQUIRE(std::abs(samples[(k - 1) * 4 + 3] - (p.v_threshold + theta)) <= 1e-12 * std::abs(p.v_threshold));
+  }
+  // Adaptation: under constant current the intervals lengthen.
+  CHECK(spikes[spikes.size() - 1] - spikes[spikes.size() - 2] > spikes[1] - spikes[0]);
+}
