@@ -60,6 +60,8 @@ class RunFileObserver final : public RunObserver {
     for (std::uint32_t p : sim.recorded_populations()) spike_stream_[p] = writer.open_spikes(net.populations[p].name);
     for (const TraceStream& t : sim.traces())
       trace_id_.push_back(writer.open_trace(net.populations[t.population].name, t.variable, t.dimension, t.neurons));
+    for (const WeightRecorder& r : sim.weight_recorders())
+      weight_id_.push_back(writer.open_weights(net.pathways[r.pathway].name, r.synapses));
     last_flush_ = std::chrono::steady_clock::now();
   }
   void on_spikes(std::uint32_t p, std::span<const double> times, std::span<const std::uint32_t> neurons) override {
@@ -67,6 +69,15 @@ class RunFileObserver final : public RunObserver {
   }
   void on_sample(std::uint32_t trace, double time, std::span<const double> values) override {
     writer_.append_trace_row(trace_id_[trace], time, values);
+  }
+  void on_weight_sample(std::uint32_t r, double time, std::span<const double> weights) override {
+    writer_.append_weight_sample(weight_id_[r], time, weights);
+  }
+  void on_weight_changes(std::uint32_t r, std::span<const WeightChange> changes) override {
+    writer_.append_weight_changes(weight_id_[r], changes);
+  }
+  void on_weight_snapshot(std::uint32_t r, double time, std::span<const double> weights) override {
+    writer_.append_weight_snapshot(weight_id_[r], time, weights);
   }
   void on_progress(double time) override {
     progress_.update(time);
@@ -83,6 +94,7 @@ class RunFileObserver final : public RunObserver {
   ProgressLine& progress_;
   std::vector<int> spike_stream_;
   std::vector<int> trace_id_;
+  std::vector<int> weight_id_;
   std::chrono::steady_clock::time_point last_flush_;
 };
 
@@ -107,6 +119,30 @@ void write_network(RunWriter& writer, const Simulation& sim, bool connectivity) 
       r.weight = path.synapses.weight;
     }
     writer.write_pathway(r);
+  }
+}
+
+// Requested versus realised changes and final weights of every learning pathway.
+void write_learning_records(RunWriter& writer, const Simulation& sim, double t_end) {
+  for (const Pathway& path : sim.network().pathways) {
+    if (!path.rule) continue;
+    const UpdateLedger& ledger = path.ledger();
+    std::vector<double> final_weight(path.synapses.size());
+    for (std::uint64_t k = 0; k < path.synapses.size(); ++k) final_weight[k] = path.weight_record(k, t_end);
+    LearningRecord r;
+    r.pathway = path.name;
+    r.rule = std::string(path.rule->name());
+    r.updates = ledger.total_updates;
+    r.pulses = ledger.total_pulses;
+    r.routed_partner = ledger.routed_partner;
+    r.unrealisable = ledger.unrealisable;
+    r.sum_requested = ledger.sum_requested;
+    r.sum_realised = ledger.sum_realised;
+    r.sum_squared_error = ledger.sum_squared_error;
+    r.requested = ledger.requested;
+    r.realised = ledger.realised;
+    r.final_weight = final_weight;
+    writer.write_learning(r);
   }
 }
 
@@ -185,6 +221,7 @@ int run_command(const RunOptions& options) {
       summary = sim.run(observer, &g_interrupted);
       std::signal(SIGINT, previous);
       progress.finish();
+      write_learning_records(writer, sim, summary.time_reached);
       write_device_records(writer, sim, summary.time_reached);
       writer.finish(summary.reason == EndReason::complete ? RunStatus::complete : RunStatus::interrupted,
                     summary.time_reached);

@@ -24,6 +24,9 @@ int main(int argc, char** argv) {
       register_run(app),
       register_check(app),
       register_summary(app),
+      register_device_bench(app),
+      register_map_weights(app),
+      register_fit_device(app),
   };
 
   // CLI11 answers a mistyped command with "A subcommand is required"; name it instead.

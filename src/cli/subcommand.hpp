@@ -15,5 +15,8 @@ struct Subcommand {
 Subcommand register_run(CLI::App& app);
 Subcommand register_check(CLI::App& app);
 Subcommand register_summary(CLI::App& app);
+Subcommand register_device_bench(CLI::App& app);
+Subcommand register_map_weights(CLI::App& app);
+Subcommand register_fit_device(CLI::App& app);
 
 }  // namespace nvsyn::cli

@@ -34,6 +34,8 @@ DevicePreset read_device_preset_file(const std::string& path) {
   root->mark_used("name");
   root->mark_used("description");
   root->mark_used("origin");
+  // Fit statistics that `nvsyn fit-device` writes for scripts; they do not describe the device.
+  root->mark_used("fit");
   if (!root->has("device"))
     throw UserError({path, 1, 1}, "device", "a device preset needs a [device] table with the device's 'model' and parameters");
   auto device = root->table("device");

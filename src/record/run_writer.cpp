@@ -3,155 +3,34 @@
 #include <fmt/format.h>
 
 #include <algorithm>
-#include <chrono>
 #include <cmath>
-#include <ctime>
 #include <limits>
 #include <map>
 
 #include "core/error.hpp"
-#include "record/detail/hdf5_handle.hpp"
+#include "record/detail/hdf5_io.hpp"
 
 namespace nvsyn {
 namespace {
 
+using detail::create_chunked_dataset;
+using detail::create_group;
 using detail::H5Handle;
+using detail::Hdf5Context;
+using detail::is_valid_link_name;
+using detail::kChunkElements;
+using detail::open_or_create_group;
+using detail::si_symbol;
+using detail::utc_now_iso8601;
+using detail::write_fixed_1d;
+using detail::write_scalar_attr;
+using detail::write_string_attr;
 
 constexpr int kLayoutVersion = 1;
 
-// 16384 elements is 128 KiB of float64: large enough for deflate to work well,
-// small enough to sit in HDF5's default 1 MiB chunk cache many times over.
-constexpr hsize_t kChunkElements = 16384;
 // Appends are buffered up to this many values per stream before they are written,
 // which bounds memory per stream (~0.8 MiB for spikes) whatever the run length.
 constexpr std::size_t kBufferedValues = 65536;
-constexpr unsigned kDeflateLevel = 4;
-
-std::string_view si_symbol(Dimension d) {
-  switch (d) {
-    case Dimension::dimensionless: return "1";
-    case Dimension::time: return "s";
-    case Dimension::voltage: return "V";
-    case Dimension::current: return "A";
-    case Dimension::conductance: return "S";
-    case Dimension::capacitance: return "F";
-    case Dimension::resistance: return "Ohm";
-    case Dimension::frequency: return "Hz";
-    case Dimension::energy: return "J";
-    case Dimension::charge: return "C";
-  }
-  return "1";
-}
-
-std::string utc_now_iso8601() {
-  const std::time_t now = std::chrono::system_clock::to_time_t(std::chrono::system_clock::now());
-  std::tm utc{};
-  gmtime_r(&now, &utc);
-  char text[32];
-  std::strftime(text, sizeof text, "%Y-%m-%dT%H:%M:%SZ", &utc);
-  return text;
-}
-
-// HDF5's message for a failed create embeds the operating system's reason among
-// its own flags ("... error message = 'No such file or directory', flags = ...");
-// the user needs only the reason.
-std::string creation_failure_reason() {
-  const std::string text = detail::hdf5_error_text();
-  constexpr std::string_view marker = "error message = '";
-  const std::size_t start = text.find(marker);
-  if (start == std::string::npos) return text;
-  const std::size_t from = start + marker.size();
-  const std::size_t end = text.find('\'', from);
-  return end == std::string::npos ? text : text.substr(from, end - from);
-}
-
-// A name becomes one HDF5 link: '/' would silently create nested groups.
-bool is_valid_link_name(std::string_view name) {
-  return !name.empty() && name != "." && name.find('/') == std::string_view::npos;
-}
-
-class Hdf5Context {
- public:
-  explicit Hdf5Context(std::string path) : path_(std::move(path)) {}
-
-  [[noreturn]] void fail(std::string_view action, std::string_view object) const {
-    throw InternalError(fmt::format("run file '{}': cannot {} '{}': {}", path_, action, object,
-                                    detail::hdf5_error_text()));
-  }
-  H5Handle checked(H5Handle handle, std::string_view action, std::string_view object) const {
-    if (!handle.valid()) fail(action, object);
-    return handle;
-  }
-  void check(herr_t status, std::string_view action, std::string_view object) const {
-    if (status < 0) fail(action, object);
-  }
-  const std::string& path() const { return path_; }
-
- private:
-  std::string path_;
-};
-
-void write_string_attr(const Hdf5Context& h5, hid_t object, const char* name, std::string_view value,
-                       std::string_view object_path) {
-  const std::string what = fmt::format("{}@{}", object_path, name);
-  H5Handle type = h5.checked(detail::utf8_string_type(), "create string type for", what);
-  H5Handle space = h5.checked(detail::space_handle(H5Screate(H5S_SCALAR)), "create dataspace for", what);
-  // Overwrite in place when the attribute exists (status is written twice).
-  H5Handle attr =
-      H5Aexists(object, name) > 0
-          ? detail::attribute_handle(H5Aopen(object, name, H5P_DEFAULT))
-          : detail::attribute_handle(H5Acreate2(object, name, type.get(), space.get(), H5P_DEFAULT, H5P_DEFAULT));
-  attr = h5.checked(std::move(attr), "create attribute", what);
-  const std::string text(value);  // HDF5 needs a NUL-terminated string
-  const char* pointer = text.c_str();
-  h5.check(H5Awrite(attr.get(), type.get(), &pointer), "write attribute", what);
-}
-
-template <typename T>
-void write_scalar_attr(const Hdf5Context& h5, hid_t object, const char* name, hid_t file_type, hid_t memory_type,
-                       T value, std::string_view object_path) {
-  const std::string what = fmt::format("{}@{}", object_path, name);
-  H5Handle attr;
-  if (H5Aexists(object, name) > 0) {
-    attr = detail::attribute_handle(H5Aopen(object, name, H5P_DEFAULT));
-  } else {
-    H5Handle space = h5.checked(detail::space_handle(H5Screate(H5S_SCALAR)), "create dataspace for", what);
-    attr = detail::attribute_handle(H5Acreate2(object, name, file_type, space.get(), H5P_DEFAULT, H5P_DEFAULT));
-  }
-  attr = h5.checked(std::move(attr), "create attribute", what);
-  h5.check(H5Awrite(attr.get(), memory_type, &value), "write attribute", what);
-}
-
-// Groups that list their children in creation order, so a reader can present
-// populations and pathways in model-file order rather than alphabetically.
-H5Handle create_group(const Hdf5Context& h5, hid_t parent, const std::string& name, std::string_view path) {
-  H5Handle gcpl = h5.checked(detail::plist_handle(H5Pcreate(H5P_GROUP_CREATE)), "create property list for", path);
-  h5.check(H5Pset_link_creation_order(gcpl.get(), H5P_CRT_ORDER_TRACKED | H5P_CRT_ORDER_INDEXED),
-           "set creation order for", path);
-  return h5.checked(detail::group_handle(H5Gcreate2(parent, name.c_str(), H5P_DEFAULT, gcpl.get(), H5P_DEFAULT)),
-                    "create group", path);
-}
-
-H5Handle open_or_create_group(const Hdf5Context& h5, hid_t parent, const std::string& name, std::string_view path) {
-  if (H5Lexists(parent, name.c_str(), H5P_DEFAULT) > 0)
-    return h5.checked(detail::group_handle(H5Gopen2(parent, name.c_str(), H5P_DEFAULT)), "open group", path);
-  return create_group(h5, parent, name, path);
-}
-
-// Chunked, shuffled and deflated. `dims` are the initial sizes, `max_dims` may hold
-// H5S_UNLIMITED. Chunk sizes must be positive even where a dimension is zero.
-H5Handle create_chunked_dataset(const Hdf5Context& h5, hid_t parent, const char* name, hid_t file_type, int rank,
-                                const hsize_t* dims, const hsize_t* max_dims, const hsize_t* chunk,
-                                std::string_view path) {
-  H5Handle space = h5.checked(detail::space_handle(H5Screate_simple(rank, dims, max_dims)), "create dataspace for", path);
-  H5Handle dcpl = h5.checked(detail::plist_handle(H5Pcreate(H5P_DATASET_CREATE)), "create property list for", path);
-  h5.check(H5Pset_chunk(dcpl.get(), rank, chunk), "set chunking for", path);
-  h5.check(H5Pset_shuffle(dcpl.get()), "set shuffle filter for", path);
-  h5.check(H5Pset_deflate(dcpl.get(), kDeflateLevel), "set deflate filter for", path);
-  return h5.checked(detail::dataset_handle(H5Dcreate2(parent, name, file_type, space.get(), H5P_DEFAULT,
-                                                      dcpl.get(), H5P_DEFAULT)),
-                    "create dataset", path);
-}
 
 H5Handle create_growing_1d(const Hdf5Context& h5, hid_t parent, const char* name, hid_t file_type,
                            std::string_view path) {
@@ -159,27 +38,6 @@ H5Handle create_growing_1d(const Hdf5Context& h5, hid_t parent, const char* name
   const hsize_t max_dims[1] = {H5S_UNLIMITED};
   const hsize_t chunk[1] = {kChunkElements};
   return create_chunked_dataset(h5, parent, name, file_type, 1, dims, max_dims, chunk, path);
-}
-
-// A 1-D dataset whose whole content is known now. HDF5 cannot chunk an empty
-// fixed-size dataset, so an empty one is stored contiguous (and uncompressed).
-template <typename T>
-void write_fixed_1d(const Hdf5Context& h5, hid_t parent, const char* name, hid_t file_type, hid_t memory_type,
-                    std::span<const T> data, std::string_view units, std::string_view path) {
-  const hsize_t n = data.size();
-  H5Handle dataset;
-  if (n == 0) {
-    H5Handle space = h5.checked(detail::space_handle(H5Screate_simple(1, &n, nullptr)), "create dataspace for", path);
-    dataset = h5.checked(detail::dataset_handle(H5Dcreate2(parent, name, file_type, space.get(), H5P_DEFAULT,
-                                                           H5P_DEFAULT, H5P_DEFAULT)),
-                         "create dataset", path);
-  } else {
-    const hsize_t chunk = std::min(n, kChunkElements);
-    dataset = create_chunked_dataset(h5, parent, name, file_type, 1, &n, &n, &chunk, path);
-    h5.check(H5Dwrite(dataset.get(), memory_type, H5S_ALL, H5S_ALL, H5P_DEFAULT, data.data()), "write dataset",
-             path);
-  }
-  if (!units.empty()) write_string_attr(h5, dataset.get(), "units", units, path);
 }
 
 // Extends a dataset along its first dimension by `rows` and writes `data`
@@ -225,6 +83,30 @@ struct TraceStream {
   double last_time = -std::numeric_limits<double>::infinity();
 };
 
+// /weights/<pathway>: periodic samples, every change, snapshots.
+struct WeightStream {
+  std::string path;
+  std::size_t width = 0;  // recorded synapses
+  H5Handle sample_time, sample_value, snapshot_time, snapshot_value;
+  H5Handle change_time, change_synapse, change_requested, change_realised, change_route;
+  std::vector<double> buffered_times;
+  std::vector<float> buffered_values;
+  hsize_t rows_written = 0, snapshots_written = 0, changes_written = 0;
+  std::vector<double> change_times, change_requested_values, change_realised_values;
+  std::vector<std::uint32_t> change_synapses;
+  std::vector<std::uint8_t> change_routes;
+};
+
+// A 2-D dataset growing by rows of `width` values.
+H5Handle create_growing_rows(const Hdf5Context& h5, hid_t parent, const char* name, hid_t file_type, hsize_t width,
+                             std::string_view path) {
+  const hsize_t columns = std::clamp<hsize_t>(width, 1, kChunkElements);
+  const hsize_t dims[2] = {0, width};
+  const hsize_t max_dims[2] = {H5S_UNLIMITED, width > 0 ? width : H5S_UNLIMITED};
+  const hsize_t chunk[2] = {std::max<hsize_t>(1, kChunkElements / columns), columns};
+  return create_chunked_dataset(h5, parent, name, file_type, 2, dims, max_dims, chunk, path);
+}
+
 }  // namespace
 
 std::string_view run_status_name(RunStatus s) {
@@ -251,6 +133,8 @@ struct RunWriter::Impl {
   std::map<std::string, std::uint32_t, std::less<>> population_sizes;
   std::vector<SpikeStream> spike_streams;
   std::vector<TraceStream> trace_streams;
+  std::vector<WeightStream> weight_streams;
+  H5Handle weights;
   bool closed = false;
 
   void require_open(std::string_view operation) const {
@@ -279,9 +163,38 @@ struct RunWriter::Impl {
     t.buffered_values.clear();
   }
 
+  void write_weight_buffers(WeightStream& ws) {
+    const hsize_t rows = ws.buffered_times.size();
+    append_rows(h5, ws.sample_time.get(), H5T_NATIVE_DOUBLE, ws.buffered_times.data(), ws.rows_written, rows, 1, 1,
+                ws.path + "/time");
+    append_rows(h5, ws.sample_value.get(), H5T_NATIVE_FLOAT, ws.buffered_values.data(), ws.rows_written, rows,
+                ws.width, 2, ws.path + "/value");
+    ws.rows_written += rows;
+    ws.buffered_times.clear();
+    ws.buffered_values.clear();
+    const hsize_t n = ws.change_times.size();
+    const std::string c = ws.path + "/changes";
+    append_rows(h5, ws.change_time.get(), H5T_NATIVE_DOUBLE, ws.change_times.data(), ws.changes_written, n, 1, 1, c + "/time");
+    append_rows(h5, ws.change_synapse.get(), H5T_NATIVE_UINT32, ws.change_synapses.data(), ws.changes_written, n, 1, 1,
+                c + "/synapse");
+    append_rows(h5, ws.change_requested.get(), H5T_NATIVE_DOUBLE, ws.change_requested_values.data(), ws.changes_written,
+                n, 1, 1, c + "/requested");
+    append_rows(h5, ws.change_realised.get(), H5T_NATIVE_DOUBLE, ws.change_realised_values.data(), ws.changes_written, n,
+                1, 1, c + "/realised");
+    append_rows(h5, ws.change_route.get(), H5T_NATIVE_UINT8, ws.change_routes.data(), ws.changes_written, n, 1, 1,
+                c + "/route");
+    ws.changes_written += n;
+    ws.change_times.clear();
+    ws.change_synapses.clear();
+    ws.change_requested_values.clear();
+    ws.change_realised_values.clear();
+    ws.change_routes.clear();
+  }
+
   void write_all_buffers() {
     for (auto& s : spike_streams) write_spike_buffer(s);
     for (auto& t : trace_streams) write_trace_buffer(t);
+    for (auto& ws : weight_streams) write_weight_buffers(ws);
   }
 };
 
@@ -292,12 +205,7 @@ RunWriter::RunWriter(const std::string& path, const RunHeader& header) : impl_(s
   // Bounds at the 1.8 format: dense attribute storage lets the model text exceed
   // the 64 KiB limit of compact attributes, while HDF5 1.8 readers (older MATLAB)
   // can still open the file.
-  H5Handle fapl = detail::plist_handle(H5Pcreate(H5P_FILE_ACCESS));
-  if (!fapl.valid() || H5Pset_libver_bounds(fapl.get(), H5F_LIBVER_V18, H5F_LIBVER_V18) < 0)
-    throw UserError(fmt::format("cannot create run file '{}': {}", path, creation_failure_reason()));
-  w.file = detail::file_handle(H5Fcreate(path.c_str(), H5F_ACC_TRUNC, H5P_DEFAULT, fapl.get()));
-  if (!w.file.valid())
-    throw UserError(fmt::format("cannot create run file '{}': {}", path, creation_failure_reason()));
+  w.file = detail::create_file_v18(path, "run file");
 
   const Hdf5Context& h5 = w.h5;
   const hid_t root = w.file.get();
@@ -329,6 +237,7 @@ RunWriter::~RunWriter() {
   }
   impl_->spike_streams.clear();
   impl_->trace_streams.clear();
+  impl_->weight_streams.clear();
 }
 
 void RunWriter::describe_population(const std::string& name, std::uint32_t size, std::string_view neuron_model) {
@@ -540,6 +449,122 @@ void RunWriter::append_trace_row(int trace, double time, std::span<const double>
     w.write_trace_buffer(t);
 }
 
+int RunWriter::open_weights(const std::string& pathway, std::span<const std::uint64_t> synapses) {
+  Impl& w = *impl_;
+  w.require_open("open_weights");
+  if (!is_valid_link_name(pathway))
+    throw UserError(fmt::format("pathway name '{}' cannot be stored in a run file", pathway));
+  if (!w.weights.valid()) w.weights = open_or_create_group(w.h5, w.file.get(), "weights", "/weights");
+  if (H5Lexists(w.weights.get(), pathway.c_str(), H5P_DEFAULT) > 0)
+    throw InternalError(fmt::format("run file '{}': weights of pathway '{}' opened twice", w.h5.path(), pathway));
+  WeightStream ws;
+  ws.path = "/weights/" + pathway;
+  ws.width = synapses.size();
+  H5Handle group = create_group(w.h5, w.weights.get(), pathway, ws.path);
+  std::vector<std::uint32_t> ids(synapses.begin(), synapses.end());
+  write_fixed_1d(w.h5, group.get(), "synapse", H5T_STD_U32LE, H5T_NATIVE_UINT32, std::span<const std::uint32_t>(ids), "",
+                 ws.path + "/synapse");
+  ws.sample_time = create_growing_1d(w.h5, group.get(), "time", H5T_IEEE_F64LE, ws.path + "/time");
+  write_string_attr(w.h5, ws.sample_time.get(), "units", "s", ws.path + "/time");
+  ws.sample_value = create_growing_rows(w.h5, group.get(), "value", H5T_IEEE_F32LE, ws.width, ws.path + "/value");
+  write_string_attr(w.h5, ws.sample_value.get(), "units", "A", ws.path + "/value");
+
+  const std::string c = ws.path + "/changes";
+  H5Handle changes = create_group(w.h5, group.get(), "changes", c);
+  ws.change_time = create_growing_1d(w.h5, changes.get(), "time", H5T_IEEE_F64LE, c + "/time");
+  write_string_attr(w.h5, ws.change_time.get(), "units", "s", c + "/time");
+  ws.change_synapse = create_growing_1d(w.h5, changes.get(), "synapse", H5T_STD_U32LE, c + "/synapse");
+  ws.change_requested = create_growing_1d(w.h5, changes.get(), "requested", H5T_IEEE_F64LE, c + "/requested");
+  write_string_attr(w.h5, ws.change_requested.get(), "units", "A", c + "/requested");
+  ws.change_realised = create_growing_1d(w.h5, changes.get(), "realised", H5T_IEEE_F64LE, c + "/realised");
+  write_string_attr(w.h5, ws.change_realised.get(), "units", "A", c + "/realised");
+  ws.change_route = create_growing_1d(w.h5, changes.get(), "route", H5T_STD_U8LE, c + "/route");
+  write_string_attr(w.h5, ws.change_route.get(), "meaning", "0 not realised, 1 direct, 2 differential partner",
+                    c + "/route");
+
+  const std::string sp = ws.path + "/snapshots";
+  H5Handle snapshots = create_group(w.h5, group.get(), "snapshots", sp);
+  ws.snapshot_time = create_growing_1d(w.h5, snapshots.get(), "time", H5T_IEEE_F64LE, sp + "/time");
+  write_string_attr(w.h5, ws.snapshot_time.get(), "units", "s", sp + "/time");
+  w.weight_streams.push_back(std::move(ws));
+  // The snapshot width (every synapse of the pathway) is known at the first snapshot.
+  return static_cast<int>(w.weight_streams.size() - 1);
+}
+
+namespace {
+WeightStream& weight_stream(std::vector<WeightStream>& streams, int id, const std::string& file) {
+  if (id < 0 || static_cast<std::size_t>(id) >= streams.size())
+    throw InternalError(fmt::format("run file '{}': no weight recorder {}", file, id));
+  return streams[static_cast<std::size_t>(id)];
+}
+}  // namespace
+
+void RunWriter::append_weight_sample(int recorder, double time, std::span<const double> weights) {
+  Impl& w = *impl_;
+  w.require_open("append_weight_sample");
+  WeightStream& ws = weight_stream(w.weight_streams, recorder, w.h5.path());
+  if (weights.size() != ws.width)
+    throw InternalError(fmt::format("run file '{}': {} records {} synapses, got {}", w.h5.path(), ws.path, ws.width,
+                                    weights.size()));
+  ws.buffered_times.push_back(time);
+  for (double x : weights) ws.buffered_values.push_back(static_cast<float>(x));
+  if (ws.buffered_values.size() + ws.change_times.size() >= kBufferedValues) w.write_weight_buffers(ws);
+}
+
+void RunWriter::append_weight_changes(int recorder, std::span<const WeightChange> changes) {
+  Impl& w = *impl_;
+  w.require_open("append_weight_changes");
+  WeightStream& ws = weight_stream(w.weight_streams, recorder, w.h5.path());
+  for (const WeightChange& c : changes) {
+    ws.change_times.push_back(c.time);
+    ws.change_synapses.push_back(static_cast<std::uint32_t>(c.synapse));
+    ws.change_requested_values.push_back(c.requested);
+    ws.change_realised_values.push_back(c.realised);
+    ws.change_routes.push_back(c.route);
+  }
+  if (ws.buffered_values.size() + ws.change_times.size() >= kBufferedValues) w.write_weight_buffers(ws);
+}
+
+void RunWriter::append_weight_snapshot(int recorder, double time, std::span<const double> weights) {
+  Impl& w = *impl_;
+  w.require_open("append_weight_snapshot");
+  WeightStream& ws = weight_stream(w.weight_streams, recorder, w.h5.path());
+  const std::string sp = ws.path + "/snapshots";
+  if (!ws.snapshot_value.valid()) {
+    H5Handle group = w.h5.checked(detail::group_handle(H5Gopen2(w.file.get(), sp.c_str(), H5P_DEFAULT)), "open group", sp);
+    ws.snapshot_value = create_growing_rows(w.h5, group.get(), "value", H5T_IEEE_F32LE, weights.size(), sp + "/value");
+    write_string_attr(w.h5, ws.snapshot_value.get(), "units", "A", sp + "/value");
+  }
+  std::vector<float> row(weights.begin(), weights.end());
+  append_rows(w.h5, ws.snapshot_time.get(), H5T_NATIVE_DOUBLE, &time, ws.snapshots_written, 1, 1, 1, sp + "/time");
+  append_rows(w.h5, ws.snapshot_value.get(), H5T_NATIVE_FLOAT, row.data(), ws.snapshots_written, 1, row.size(), 2,
+              sp + "/value");
+  ++ws.snapshots_written;
+}
+
+void RunWriter::write_learning(const LearningRecord& r) {
+  Impl& w = *impl_;
+  w.require_open("write_learning");
+  const std::string path = "/pathways/" + r.pathway;
+  if (H5Lexists(w.pathways.get(), r.pathway.c_str(), H5P_DEFAULT) <= 0)
+    throw InternalError(fmt::format("run file '{}': learning of pathway '{}' before the pathway", w.h5.path(), r.pathway));
+  H5Handle group = w.h5.checked(detail::group_handle(H5Gopen2(w.pathways.get(), r.pathway.c_str(), H5P_DEFAULT)),
+                                "open group", path);
+  const hid_t g = group.get();
+  write_scalar_attr(w.h5, g, "updates", H5T_STD_U64LE, H5T_NATIVE_UINT64, r.updates, path);
+  write_scalar_attr(w.h5, g, "pulses", H5T_STD_U64LE, H5T_NATIVE_UINT64, r.pulses, path);
+  write_scalar_attr(w.h5, g, "routed_partner", H5T_STD_U64LE, H5T_NATIVE_UINT64, r.routed_partner, path);
+  write_scalar_attr(w.h5, g, "unrealisable", H5T_STD_U64LE, H5T_NATIVE_UINT64, r.unrealisable, path);
+  write_scalar_attr(w.h5, g, "sum_requested", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, r.sum_requested, path);
+  write_scalar_attr(w.h5, g, "sum_realised", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, r.sum_realised, path);
+  const double rms = r.updates ? std::sqrt(r.sum_squared_error / static_cast<double>(r.updates)) : 0.0;
+  write_scalar_attr(w.h5, g, "rms_update_error", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, rms, path);
+  write_string_attr(w.h5, g, "learning_units", "A (sums and rms error)", path);
+  write_fixed_1d(w.h5, g, "requested", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, r.requested, "A", path + "/requested");
+  write_fixed_1d(w.h5, g, "realised", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, r.realised, "A", path + "/realised");
+  write_fixed_1d(w.h5, g, "final_weight", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, r.final_weight, "A", path + "/final_weight");
+}
+
 void RunWriter::flush() {
   Impl& w = *impl_;
   w.require_open("flush");
@@ -558,6 +583,8 @@ void RunWriter::finish(RunStatus status, double model_time_reached) {
   write_scalar_attr(w.h5, root, "time_reached", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, model_time_reached, "/");
   w.spike_streams.clear();
   w.trace_streams.clear();
+  w.weight_streams.clear();
+  w.weights.reset();
   w.populations.reset();
   w.spikes.reset();
   w.pathways.reset();

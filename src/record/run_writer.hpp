@@ -13,6 +13,7 @@
 #include <vector>
 
 #include "core/units.hpp"
+#include "network/run_observer.hpp"
 
 namespace nvsyn {
 
@@ -65,6 +66,17 @@ struct DeviceRecord {
   std::uint64_t initial_failed = 0, initial_out_of_range = 0, initial_unresponsive = 0;
 };
 
+// Learning statistics of one plastic pathway (attributes and datasets of /pathways/<path>).
+struct LearningRecord {
+  std::string pathway;
+  std::string rule;
+  std::uint64_t updates = 0, pulses = 0, routed_partner = 0, unrealisable = 0;
+  double sum_requested = 0, sum_realised = 0, sum_squared_error = 0;  // A, A, A^2
+  std::span<const double> requested;     // A, per synapse, summed over the run
+  std::span<const double> realised;      // A
+  std::span<const double> final_weight;  // A, effective weight at the end (no read noise)
+};
+
 class RunWriter {
  public:
   // Creates (truncates) `path`. Throws UserError naming the path if it cannot.
@@ -82,6 +94,15 @@ class RunWriter {
 
   // Creates /devices/<pathway> with the datasets of `record`.
   void write_devices(const DeviceRecord& record);
+
+  // /weights/<pathway>: `synapses` are the recorded synapses (indices within the
+  // pathway); returns a recorder id for the append functions.
+  int open_weights(const std::string& pathway, std::span<const std::uint64_t> synapses);
+  void append_weight_sample(int recorder, double time, std::span<const double> weights);
+  void append_weight_changes(int recorder, std::span<const WeightChange> changes);
+  void append_weight_snapshot(int recorder, double time, std::span<const double> weights);
+  // Learning statistics of a plastic pathway; the pathway must have been written.
+  void write_learning(const LearningRecord& record);
 
   // Creates /traces/<population>/<variable>/{time,value,neuron}; returns a trace id.
   int open_trace(const std::string& population, std::string_view variable, Dimension unit,
