@@ -42,8 +42,7 @@ for v in static stdp_ideal stdp_pcm; do
   updates=$(/usr/bin/python3 -c "
 import h5py, sys
 with h5py.File('$work/$v.h5') as f:
-    g = f.get('devices/exc_exc')
-    print(0 if g is None else int(g.attrs.get('updates', 0)))" 2>/dev/null || echo 0)
+    print(int(f['pathways/exc_exc'].attrs.get('updates', 0)))")
   printf '%-12s %10.2f %16.3g %14.3g %12.1f\n' "$v" "$wall" "$(awk -v e="$events" -v s="$wall" 'BEGIN{print e/s}')" \
     "$(awk -v u="$updates" -v s="$wall" 'BEGIN{print u/s}')" "$(awk -v k="$rss" 'BEGIN{print k/1024}')"
 done
