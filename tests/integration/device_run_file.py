@@ -16,6 +16,8 @@ import sys
 import h5py
 import numpy as np
 
+from checklist import report
+
 
 def main():
     nvsyn, model, scratch = sys.argv[1:4]
@@ -57,11 +59,7 @@ def main():
         results.append((f"initial weights within tolerance except {failed} reported failures",
                         int(np.sum(error > tolerance * (1 + 1e-9))) <= failed))
         results.append(("static run: nothing requested", float(np.abs(g["requested"][:]).sum()) == 0.0))
-    for name, ok in results:
-        print(f"{'ok  ' if ok else 'FAIL'} {name}")
-    failed = sum(not ok for _, ok in results)
-    print(f"{len(results) - failed} passed, {failed} failed")
-    return 1 if failed else 0
+    return report(results)
 
 
 if __name__ == "__main__":

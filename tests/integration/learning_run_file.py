@@ -15,6 +15,8 @@ import sys
 import h5py
 import numpy as np
 
+from checklist import report
+
 
 def run(nvsyn, model, out, *extra):
     subprocess.run([nvsyn, "run", model, "-o", out, "--quiet", *extra], check=True, stdout=subprocess.DEVNULL)
@@ -57,11 +59,7 @@ def main():
         results.append(("snapshot weights within [0, w_max]", bool(w.min() >= 0 and w.max() <= 12e-12 * (1 + 1e-6))))
         results.append(("weights spread towards the bounds as learning goes on",
                         np.std(w[2]) > np.std(w[0])))
-    for name, ok in results:
-        print(f"{'ok  ' if ok else 'FAIL'} {name}")
-    failed = sum(not ok for _, ok in results)
-    print(f"{len(results) - failed} passed, {failed} failed")
-    return 1 if failed else 0
+    return report(results)
 
 
 if __name__ == "__main__":

@@ -15,6 +15,8 @@ import sys
 import h5py
 import numpy as np
 
+from checklist import report
+
 
 def run(nvsyn, model, out, *extra):
     subprocess.run([nvsyn, "run", model, "-o", out, "--quiet", "--duration", "0.5 s", *extra],
@@ -51,11 +53,7 @@ def main():
         t = f["spikes/exc/time"][:]
         results.append(("spike times ascending within [0, 0.5 s)",
                         bool(np.all(np.diff(t) >= 0) and t.min() >= 0 and t.max() < 0.5)))
-    for name, ok in results:
-        print(f"{'ok  ' if ok else 'FAIL'} {name}")
-    failed = sum(not ok for _, ok in results)
-    print(f"{len(results) - failed} passed, {failed} failed")
-    return 1 if failed else 0
+    return report(results)
 
 
 if __name__ == "__main__":
