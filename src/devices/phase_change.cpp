@@ -14,13 +14,13 @@
 #include "devices/pulse_response.hpp"
 
 namespace nvsyn::device_laws {
-namespace {
-
-double polynomial(const std::vector<double>& c, double x) {
+double evaluate_polynomial(const std::vector<double>& c, double x) {
   double y = 0.0;
   for (auto it = c.rbegin(); it != c.rend(); ++it) y = y * x + *it;
   return y;
 }
+
+namespace {
 
 double normalised(const DeviceParameters& p, const DeviceVariation& v, double g) {
   return (g - p.g_min) / (v.g_max - p.g_min);
@@ -29,11 +29,11 @@ double normalised(const DeviceParameters& p, const DeviceVariation& v, double g)
 }  // namespace
 
 double phase_change_mean_increment(const DeviceParameters& p, const DeviceVariation& v, double g) {
-  return v.step_scale * std::max(0.0, polynomial(p.increment_mean, normalised(p, v, g)));
+  return v.step_scale * std::max(0.0, evaluate_polynomial(p.increment_mean, normalised(p, v, g)));
 }
 
 double phase_change_increment_sd(const DeviceParameters& p, const DeviceVariation& v, double g) {
-  return v.step_scale * std::max(0.0, polynomial(p.increment_sd, normalised(p, v, g)));
+  return v.step_scale * std::max(0.0, evaluate_polynomial(p.increment_sd, normalised(p, v, g)));
 }
 
 double phase_change_reset(const DeviceParameters& p, RandomStream& rng) {

@@ -30,6 +30,8 @@ double linear_levels_step(const DeviceParameters& p, const DeviceVariation& v, d
 double linear_levels_snap(const DeviceParameters& p, const DeviceVariation& v, double g);
 double soft_bounds_step(const DeviceParameters& p, const DeviceVariation& v, double g, Polarity pol);
 double exponential_saturation_step(const DeviceParameters& p, const DeviceVariation& v, double g, Polarity pol);
+// sum c_i x^i (Horner); the form of the phase-change increment laws.
+double evaluate_polynomial(const std::vector<double>& coefficients, double x);
 double phase_change_mean_increment(const DeviceParameters& p, const DeviceVariation& v, double g);
 double phase_change_increment_sd(const DeviceParameters& p, const DeviceVariation& v, double g);
 double phase_change_reset(const DeviceParameters& p, RandomStream& rng);

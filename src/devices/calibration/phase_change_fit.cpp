@@ -26,15 +26,10 @@
 #include "devices/calibration/fit_device.hpp"
 #include "devices/calibration/least_squares.hpp"
 #include "devices/calibration/step_law_fit.hpp"
+#include "devices/pulse_response.hpp"
 
 namespace nvsyn::calibration {
 namespace {
-
-double polynomial(const std::vector<double>& c, double x) {
-  double y = 0.0;
-  for (auto it = c.rbegin(); it != c.rend(); ++it) y = y * x + *it;
-  return y;
-}
 
 double median(std::vector<double> v) {
   std::sort(v.begin(), v.end());
@@ -128,7 +123,7 @@ FitResult fit_phase_change(const PulseData& data, const TransitionSet& set, cons
     std::vector<double> x, y;
     for (std::size_t i : idx) {
       const double s = scale_of[tr[i].device_index];
-      const double res = tr[i].g_to - tr[i].g_from - s * std::max(0.0, polynomial(mean, x_of(tr[i])));
+      const double res = tr[i].g_to - tr[i].g_from - s * std::max(0.0, device_laws::evaluate_polynomial(mean, x_of(tr[i])));
       x.push_back(x_of(tr[i]));
       y.push_back(std::sqrt(std::numbers::pi / 2) * std::abs(res) / s);
     }
@@ -142,7 +137,7 @@ FitResult fit_phase_change(const PulseData& data, const TransitionSet& set, cons
   for (std::size_t i : used) {
     const double x = x_of(tr[i]);
     const double reach =
-        std::max(0.0, polynomial(mean.parameters, x)) + 3 * std::max(0.0, polynomial(sd.parameters, x));
+        std::max(0.0, device_laws::evaluate_polynomial(mean.parameters, x)) + 3 * std::max(0.0, device_laws::evaluate_polynomial(sd.parameters, x));
     if (tr[i].g_from + reach < device_max[tr[i].device_index]) kept.push_back(i);
   }
   if (kept.size() < used.size())
@@ -172,7 +167,7 @@ FitResult fit_phase_change(const PulseData& data, const TransitionSet& set, cons
                           for (std::size_t k = 0; k < idx.size(); ++k) {
                             const Transition& t = tr[idx[k]];
                             const double x = (t.g_from - g_min) / (v[0] - g_min);
-                            res[k] = (t.g_to - t.g_from - v[1] * std::max(0.0, polynomial(mean.parameters, x))) / g_max;
+                            res[k] = (t.g_to - t.g_from - v[1] * std::max(0.0, device_laws::evaluate_polynomial(mean.parameters, x))) / g_max;
                           }
                         },
                         {g_max, 1.0});
@@ -249,7 +244,7 @@ FitResult fit_phase_change(const PulseData& data, const TransitionSet& set, cons
   std::size_t last_ramp = tr.size();
   for (std::size_t i : used) {
     const Transition& t = tr[i];
-    const double predicted = t.g_from + scale_of[t.device_index] * std::max(0.0, polynomial(mean.parameters, x_of(t)));
+    const double predicted = t.g_from + scale_of[t.device_index] * std::max(0.0, device_laws::evaluate_polynomial(mean.parameters, x_of(t)));
     s.residuals.push_back(t.g_to - predicted);
     s.observed.push_back(t.g_to);
     if (t.ramp != last_ramp) s.ordered.emplace_back();
