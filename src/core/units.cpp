@@ -138,7 +138,8 @@ std::string format_quantity(double value_si, Dimension d) {
   std::string_view base;
   for (const auto& b : kBaseUnits)
     if (b.dimension == d) base = b.symbol;
-  const double magnitude = std::fabs(value_si);
+  // A hair above the value, so that 1e-6 / 1e-9 = 999.999... still reads "1 u...".
+  const double magnitude = (1.0 + 1e-12) * std::fabs(value_si);
   if (magnitude == 0.0) return fmt::format("0 {}", base);
   for (const auto& prefix : kPrefixes) {
     if (prefix.symbol == "\xC2\xB5" || prefix.factor > 1e9) continue;

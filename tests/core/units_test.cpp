@@ -52,3 +52,9 @@ TEST_CASE("format_quantity picks a readable prefix", "[units]") {
   CHECK(format_quantity(0.0, Dimension::current) == "0 A");
   CHECK(format_quantity(3e-10, Dimension::current) == "300 pA");
 }
+
+TEST_CASE("exact powers of 1000 take the larger prefix", "[units]") {
+  CHECK(format_quantity(1e-6, Dimension::conductance) == "1 uS");
+  CHECK(format_quantity(1e-3, Dimension::time) == "1 ms");
+  CHECK(format_quantity(1e-9, Dimension::current) == "1 nA");
+}
