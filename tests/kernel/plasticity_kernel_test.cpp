@@ -222,3 +222,20 @@ normalise_total = "2 nA"
   for (std::uint64_t k = 0; k < p.synapses.size(); ++k) total[p.synapses.post[k]] += p.synapses.weight[k];
   for (double t : total) CHECK(t == Approx(2e-9).epsilon(1e-12));
 }
+
+TEST_CASE("an experiment can deliver rewards through the C++ interface", "[kernel][reward]") {
+  std::string text = pairing_model(0.01, 5, "");
+  text.replace(text.find("rule = \"pair_stdp\""), 18, "rule = \"reward_stdp\"\ntau_eligibility = \"0.5 s\"");
+  Simulation sim = Simulation::build(read_model_text(text, "pairing.toml"));
+  sim.add_reward("learn", 3.11, 1.0);
+  sim.add_reward("learn", 5.2, -0.5);
+  CHECK_THROWS_WITH(sim.add_reward("nope", 1.0, 1.0), Catch::Contains("no pathway named 'nope'"));
+  CHECK_THROWS_WITH(sim.add_reward("drive", 1.0, 1.0), Catch::Contains("no reward-modulated rule"));
+  test::SpikeCollector c;
+  sim.run(c);
+  REQUIRE(c.changes.size() == 2);
+  CHECK(c.changes[0].time == 3.11);
+  CHECK(c.changes[0].realised > 0);   // pre-before-post pairings: positive eligibility
+  CHECK(c.changes[1].time == 5.2);
+  CHECK(c.changes[1].realised < 0);   // the negative reward reverses it
+}
