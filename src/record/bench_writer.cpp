@@ -39,15 +39,9 @@ void write_bench_file(const std::string& path, const BenchFileHeader& header, co
   const hid_t root = file.get();
   const CharacterisationProtocol& p = header.protocol;
 
-  write_string_attr(h5, root, "layout", "nvsyn-device-bench", "/");
-  write_scalar_attr(h5, root, "layout_version", H5T_STD_I32LE, H5T_NATIVE_INT, kLayoutVersion, "/");
-  write_string_attr(h5, root, "nvsyn_version", header.nvsyn_version, "/");
-  write_string_attr(h5, root, "created", utc_now_iso8601(), "/");
-  write_scalar_attr(h5, root, "seed", H5T_STD_U64LE, H5T_NATIVE_UINT64, p.seed, "/");
-  write_string_attr(h5, root, "preset", header.preset, "/");
-  write_string_attr(h5, root, "preset_file", header.preset_file, "/");
-  write_string_attr(h5, root, "preset_text", header.preset_text, "/");
-  write_string_attr(h5, root, "device_model", header.device_model, "/");
+  detail::write_device_file_header(h5, root, {"nvsyn-device-bench", kLayoutVersion, header.nvsyn_version, p.seed,
+                                              header.preset, header.preset_file, header.preset_text,
+                                              header.device_model});
 
   {
     H5Handle g = create_group(h5, root, "protocol", "/protocol");

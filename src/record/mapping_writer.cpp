@@ -42,15 +42,8 @@ void write_mapping_file(const std::string& path, const MappingFileHeader& h, con
   H5Handle file = create_file_v18(path, "weight-mapping file");
   const Hdf5Context h5(path, "weight-mapping file");
   const hid_t root = file.get();
-  write_string_attr(h5, root, "layout", "nvsyn-weight-mapping", "/");
-  write_scalar_attr(h5, root, "layout_version", H5T_STD_I32LE, H5T_NATIVE_INT, kLayoutVersion, "/");
-  write_string_attr(h5, root, "nvsyn_version", h.nvsyn_version, "/");
-  write_string_attr(h5, root, "created", utc_now_iso8601(), "/");
-  write_scalar_attr(h5, root, "seed", H5T_STD_U64LE, H5T_NATIVE_UINT64, h.seed, "/");
-  write_string_attr(h5, root, "preset", h.preset, "/");
-  write_string_attr(h5, root, "preset_file", h.preset_file, "/");
-  write_string_attr(h5, root, "preset_text", h.preset_text, "/");
-  write_string_attr(h5, root, "device_model", h.device_model, "/");
+  detail::write_device_file_header(h5, root, {"nvsyn-weight-mapping", kLayoutVersion, h.nvsyn_version, h.seed, h.preset,
+                                              h.preset_file, h.preset_text, h.device_model});
   write_string_attr(h5, root, "synapse_layout", h.synapse_layout, "/");
   write_scalar_attr(h5, root, "devices_per_synapse", H5T_STD_U32LE, H5T_NATIVE_UINT32, h.devices_per_synapse, "/");
   write_scalar_attr(h5, root, "gain", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, h.gain, "/");

@@ -143,4 +143,16 @@ void write_scalar_dataset(const Hdf5Context& h5, hid_t parent, const char* name,
   if (!units.empty()) write_string_attr(h5, dataset.get(), "units", units, path);
 }
 
+void write_device_file_header(const Hdf5Context& h5, hid_t root, const DeviceFileHeader& h) {
+  write_string_attr(h5, root, "layout", h.layout, "/");
+  write_scalar_attr(h5, root, "layout_version", H5T_STD_I32LE, H5T_NATIVE_INT, h.layout_version, "/");
+  write_string_attr(h5, root, "nvsyn_version", h.nvsyn_version, "/");
+  write_string_attr(h5, root, "created", utc_now_iso8601(), "/");
+  write_scalar_attr(h5, root, "seed", H5T_STD_U64LE, H5T_NATIVE_UINT64, h.seed, "/");
+  write_string_attr(h5, root, "preset", h.preset, "/");
+  write_string_attr(h5, root, "preset_file", h.preset_file, "/");
+  write_string_attr(h5, root, "preset_text", h.preset_text, "/");
+  write_string_attr(h5, root, "device_model", h.device_model, "/");
+}
+
 }  // namespace nvsyn::detail

@@ -117,4 +117,15 @@ void write_fixed_1d(const Hdf5Context& h5, hid_t parent, const char* name, hid_t
 void write_scalar_dataset(const Hdf5Context& h5, hid_t parent, const char* name, double value,
                           std::string_view units, std::string_view path);
 
+// Root attributes shared by the device files (bench and weight-mapping files):
+// layout name and version, program version, time of creation, seed and the preset.
+struct DeviceFileHeader {
+  std::string_view layout;
+  int layout_version = 1;
+  std::string_view nvsyn_version;
+  std::uint64_t seed = 0;
+  std::string_view preset, preset_file, preset_text, device_model;
+};
+void write_device_file_header(const Hdf5Context& h5, hid_t root, const DeviceFileHeader& header);
+
 }  // namespace nvsyn::detail
