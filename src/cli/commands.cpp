@@ -4,11 +4,10 @@
 #include <cmath>
 #include <chrono>
 #include <csignal>
-#include <filesystem>
 #include <fmt/format.h>
-#include <unistd.h>
 
 #include "analysis/spike_statistics.hpp"
+#include "cli/output_file.hpp"
 #include "cli/progress.hpp"
 #include "cli/subcommand.hpp"
 #include "core/error.hpp"
@@ -35,19 +34,6 @@ double parse_duration_option(const std::string& text) {
     throw UserError({}, "--duration", fmt::format("\"{}\" is a {}, expected a time such as \"2 s\"", text, dimension_name(q->dimension)));
   if (!(q->value_si > 0)) throw UserError({}, "--duration", "must be positive");
   return q->value_si;
-}
-
-// The output folder must exist before any simulation work starts.
-void check_output_path(const std::string& output) {
-  namespace fs = std::filesystem;
-  const fs::path path(output);
-  const fs::path folder = path.has_parent_path() ? path.parent_path() : fs::path(".");
-  std::error_code ec;
-  if (!fs::is_directory(folder, ec))
-    throw UserError({output}, "-o", fmt::format("the folder '{}' does not exist", folder.string()));
-  if (fs::is_directory(path, ec)) throw UserError({output}, "-o", "is a folder; give a file name such as run.h5");
-  if (::access(folder.c_str(), W_OK) != 0)
-    throw UserError({output}, "-o", fmt::format("the folder '{}' is not writable", folder.string()));
 }
 
 // Streams what the kernel reports into the run file.
@@ -202,14 +188,12 @@ int run_command(const RunOptions& options) {
   BuildOptions build;
   build.seed = options.seed;
   if (options.duration) build.duration = parse_duration_option(*options.duration);
-  check_output_path(options.output);
+  // The output folder must exist before any simulation work starts.
+  check_output_file(options.output, "-o");
   Simulation sim = Simulation::build(model, build);
 
-  // Write beside the target and move into place only when the run has ended,
-  // so the output path never holds a half-written file.
-  const std::string partial = fmt::format("{}.partial-{}", options.output, ::getpid());
   RunSummary summary;
-  {
+  write_then_rename(options.output, [&](const std::string& partial) {
     RunHeader header{NVSYN_VERSION, sim.seed(), sim.duration(), model.text, model.file};
     RunWriter writer(partial, header);
     try {
@@ -226,12 +210,15 @@ int run_command(const RunOptions& options) {
       writer.finish(summary.reason == EndReason::complete ? RunStatus::complete : RunStatus::interrupted,
                     summary.time_reached);
     } catch (...) {
-      writer.finish(RunStatus::failed, 0.0);
-      std::filesystem::remove(partial);
+      std::signal(SIGINT, SIG_DFL);
+      // Mark the file failed if it is still open; write_then_rename then removes it.
+      try {
+        writer.finish(RunStatus::failed, 0.0);
+      } catch (...) {
+      }
       throw;
     }
-  }
-  std::filesystem::rename(partial, options.output);
+  });
 
   const bool complete = summary.reason == EndReason::complete;
   fmt::print("run file: {} ({})\n", options.output, complete ? "complete" : "interrupted");
