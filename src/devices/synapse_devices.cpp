@@ -125,7 +125,7 @@ double SynapseDevices::weight_programmed(std::size_t k) const {
   return layout_.gain * g;
 }
 
-std::uint32_t SynapseDevices::select_device(std::size_t k) {
+std::uint32_t SynapseDevices::select_device(std::size_t k) const {
   if (layout_.layout != SynapseLayout::multi) return 0;
   // round_robin: selector counts updates; counter: selector counts pulses.
   const std::uint32_t n = layout_.devices();
@@ -138,11 +138,7 @@ double SynapseDevices::expected_weight_step(std::size_t k, Polarity dir) const {
     const std::size_t d = dir == Polarity::potentiate ? base : base + 1;
     return layout_.gain * std::abs(devices_.expected_step(d, Polarity::potentiate));
   }
-  std::uint32_t j = 0;
-  if (layout_.layout == SynapseLayout::multi)
-    j = layout_.arbitration == Arbitration::round_robin ? selector_[k] % layout_.devices()
-                                                         : (selector_[k] / layout_.counter_limit) % layout_.devices();
-  return layout_.gain * std::abs(devices_.expected_step(base + j, dir));
+  return layout_.gain * std::abs(devices_.expected_step(base + select_device(k), dir));
 }
 
 PulseOutcome SynapseDevices::pulse(std::size_t k, Polarity dir, std::uint32_t count, double t) {

@@ -103,7 +103,8 @@ class SynapseDevices {
  private:
   bool needs_refresh(std::size_t k, double t) const;
   void refresh(std::size_t k, double t);
-  std::uint32_t select_device(std::size_t k);
+  // Device of synapse k that the next update programs (0 unless multi).
+  std::uint32_t select_device(std::size_t k) const;
 
   SynapseLayoutParameters layout_;
   std::size_t synapses_;
