@@ -21,6 +21,9 @@ import subprocess
 import sys
 from pathlib import Path
 
+sys.path.insert(0, os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
+from bad_input_expectations import read_expectations  # noqa: E402
+
 TIMEOUT_S = 60
 USER_ERROR = 2
 
@@ -91,20 +94,6 @@ class Checker:
     def skip(self, name, why):
         self.skipped += 1
         print(f"skip {name}: {why}")
-
-
-def read_expectations(path):
-    """The "# expect-<what>: <value>" lines among the file's leading comments."""
-    expect = {}
-    with open(path, encoding="utf-8", errors="replace") as f:
-        for line in f:
-            if not line.startswith("#"):
-                break
-            body = line[1:].strip()
-            if body.startswith("expect-") and ":" in body:
-                what, value = body.split(":", 1)
-                expect[what[len("expect-"):]] = value.strip()
-    return expect
 
 
 def model_cases(checker, bad_models):

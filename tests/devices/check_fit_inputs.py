@@ -27,6 +27,9 @@ import tomllib
 import h5py
 import numpy as np
 
+sys.path.insert(0, os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
+from bad_input_expectations import read_expectations  # noqa: E402
+
 USER_ERROR = 2
 TIMEOUT_S = 120
 
@@ -46,6 +49,7 @@ rate = "10 Hz"
 
 [pathway.drive_cells]
 from = "drive"
+
 to = "cells"
 wiring = "one_to_one"
 weight = "0.1 nA"
@@ -98,19 +102,6 @@ class Checker:
                 for p in left:
                     os.remove(p)
         self.report(name, problems, err)
-
-
-def expectations(path):
-    expect = {}
-    with open(path, encoding="utf-8") as f:
-        for line in f:
-            if not line.startswith("#"):
-                break
-            body = line[1:].strip()
-            if body.startswith("expect-") and ":" in body:
-                what, value = body.split(":", 1)
-                expect[what[len("expect-"):]] = value.strip()
-    return expect
 
 
 def expected_texts(path, expect):
@@ -245,7 +236,7 @@ def bad_data_cases(ck, data_dir):
     if not files:
         ck.report("bad data files present", ["none found"])
     for path in files:
-        expect = expectations(path)
+        expect = read_expectations(path)
         if "text" not in expect:
             ck.report(os.path.basename(path), ["no '# expect-text:'"])
             continue
@@ -259,7 +250,7 @@ def bad_preset_cases(ck, data_dir):
     if not files:
         ck.report("bad presets present", ["none found"])
     for path in files:
-        expect = expectations(path)
+        expect = read_expectations(path)
         if "text" not in expect:
             ck.report(os.path.basename(path), ["no '# expect-text:'"])
             continue
