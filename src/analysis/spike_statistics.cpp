@@ -6,6 +6,7 @@
 #include <limits>
 
 #include "core/error.hpp"
+#include "core/machine_memory.hpp"
 #include "record/run_reader.hpp"
 
 namespace nvsyn {
@@ -36,35 +37,55 @@ struct IntervalStats {
 
 }  // namespace
 
-PopulationSummary summarise_population(const std::string& name, std::uint32_t neuron_count,
-                                       std::span<const double> times, std::span<const std::uint32_t> neurons,
-                                       double duration_s) {
+struct PopulationSummariser::State {
+  std::string name;
+  std::uint32_t neuron_count = 0;
+  std::uint64_t spikes = 0;
+  std::vector<IntervalStats> per_neuron;
+};
+
+PopulationSummariser::PopulationSummariser(std::string name, std::uint32_t neuron_count)
+    : state_(std::make_unique<State>()) {
+  state_->name = std::move(name);
+  state_->neuron_count = neuron_count;
+  state_->per_neuron.resize(neuron_count);
+}
+
+PopulationSummariser::~PopulationSummariser() = default;
+
+std::size_t PopulationSummariser::bytes_per_neuron() { return sizeof(IntervalStats); }
+
+void PopulationSummariser::add(std::span<const double> times, std::span<const std::uint32_t> neurons) {
+  const std::string& name = state_->name;
   if (times.size() != neurons.size())
     throw UserError(fmt::format("population '{}': {} spike times but {} neuron indices", name, times.size(),
                                 neurons.size()));
-  std::vector<IntervalStats> per_neuron(neuron_count);
   for (std::size_t i = 0; i < times.size(); ++i) {
     const std::uint32_t n = neurons[i];
-    if (n >= neuron_count)
+    if (n >= state_->neuron_count)
       throw UserError(fmt::format("population '{}': spike at t = {} s names neuron {}, but the population has {} "
                                   "neurons",
-                                  name, times[i], n, neuron_count));
-    IntervalStats& s = per_neuron[n];
+                                  name, times[i], n, state_->neuron_count));
+    IntervalStats& s = state_->per_neuron[n];
     if (s.spikes > 0 && times[i] < s.last_time)
       throw UserError(fmt::format("population '{}': spike times of neuron {} go backwards ({} s after {} s)", name,
                                   n, times[i], s.last_time));
     s.add_spike(times[i]);
   }
+  state_->spikes += times.size();
+}
 
+PopulationSummary PopulationSummariser::finish(double duration_s) const {
+  const std::uint32_t neuron_count = state_->neuron_count;
   PopulationSummary summary;
-  summary.name = name;
+  summary.name = state_->name;
   summary.neurons = neuron_count;
-  summary.spikes = times.size();
+  summary.spikes = state_->spikes;
   summary.mean_rate_hz = (neuron_count > 0 && duration_s > 0.0)
-                             ? static_cast<double>(times.size()) / (neuron_count * duration_s)
+                             ? static_cast<double>(state_->spikes) / (neuron_count * duration_s)
                              : kNaN;
   double cv_sum = 0.0;
-  for (const IntervalStats& s : per_neuron) {
+  for (const IntervalStats& s : state_->per_neuron) {
     if (s.intervals < 2 || s.mean <= 0.0) continue;
     const double sd = std::sqrt(s.sum_squared_deviation / static_cast<double>(s.intervals));
     cv_sum += sd / s.mean;
@@ -72,6 +93,14 @@ PopulationSummary summarise_population(const std::string& name, std::uint32_t ne
   }
   summary.cv_isi = summary.neurons_with_isi > 0 ? cv_sum / summary.neurons_with_isi : kNaN;
   return summary;
+}
+
+PopulationSummary summarise_population(const std::string& name, std::uint32_t neuron_count,
+                                       std::span<const double> times, std::span<const std::uint32_t> neurons,
+                                       double duration_s) {
+  PopulationSummariser summariser(name, neuron_count);
+  summariser.add(times, neurons);
+  return summariser.finish(duration_s);
 }
 
 std::vector<PopulationSummary> summarise_run(const std::string& path) {
@@ -84,13 +113,22 @@ std::vector<PopulationSummary> summarise_run(const std::string& path) {
   std::vector<PopulationSummary> summaries;
   for (const RunPopulationInfo& population : info.populations) {
     if (!population.has_spikes) continue;
-    const SpikeData spikes = reader.read_spikes(population.name);
-    try {
-      summaries.push_back(
-          summarise_population(population.name, population.size, spikes.times, spikes.neurons, *info.time_reached));
-    } catch (const UserError& e) {
-      throw e.with_context(fmt::format("in run file '{}'", path));
-    }
+    const double needed = static_cast<double>(population.size) * PopulationSummariser::bytes_per_neuron();
+    if (needed > static_cast<double>(memory_budget_bytes()))
+      throw UserError(fmt::format("run file '{}': population '{}' states {} neurons; summarising it needs {} of "
+                                  "memory, more than the {} (half of this machine's memory) a reader may use",
+                                  path, population.name, population.size, format_bytes(needed),
+                                  format_bytes(static_cast<double>(memory_budget_bytes()))));
+    PopulationSummariser summariser(population.name, population.size);
+    reader.for_each_spike_block(population.name, [&](std::span<const double> times,
+                                                     std::span<const std::uint32_t> neurons) {
+      try {
+        summariser.add(times, neurons);
+      } catch (const UserError& e) {
+        throw e.with_context(fmt::format("in run file '{}'", path));
+      }
+    });
+    summaries.push_back(summariser.finish(*info.time_reached));
   }
   return summaries;
 }

@@ -16,6 +16,7 @@
 //
 // Cost is one pass over the spikes and O(neurons) memory.
 #include <cstdint>
+#include <memory>
 #include <span>
 #include <string>
 #include <vector>
@@ -31,6 +32,25 @@ struct PopulationSummary {
   std::uint32_t neurons_with_isi = 0;  // neurons with >= 3 spikes that entered cv_isi
 };
 
+// Builds one population's summary from its spikes given in consecutive blocks (a run
+// file's spikes in the order stored), so memory does not grow with the spike count.
+class PopulationSummariser {
+ public:
+  PopulationSummariser(std::string name, std::uint32_t neuron_count);
+  ~PopulationSummariser();
+  // The rules of summarise_population apply across blocks.
+  void add(std::span<const double> times, std::span<const std::uint32_t> neurons);
+  PopulationSummary finish(double duration_s) const;
+
+  // Memory held per neuron of the population (bytes), for checking a size stated
+  // by a file before constructing.
+  static std::size_t bytes_per_neuron();
+
+ private:
+  struct State;
+  std::unique_ptr<State> state_;
+};
+
 // `times` (s) and `neurons` describe the same spikes; within each neuron the times
 // must be non-decreasing (run files store them ascending). Throws UserError naming
 // the population when a neuron index is >= `neuron_count`, when the spans differ
@@ -42,7 +62,9 @@ PopulationSummary summarise_population(const std::string& name, std::uint32_t ne
 // One summary per population with recorded spikes, in the order the populations
 // were described, over the model time the run reached (attribute time_reached).
 // Throws UserError if the file cannot be read or the run never finished (no
-// time_reached), since rates would then have no defined duration.
+// time_reached), since rates would then have no defined duration, and when a
+// population's stated size would need more memory than memory_budget_bytes().
+// Spikes are read in blocks (RunReader::for_each_spike_block).
 std::vector<PopulationSummary> summarise_run(const std::string& path);
 
 }  // namespace nvsyn

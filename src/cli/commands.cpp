@@ -4,14 +4,20 @@
 #include <cmath>
 #include <chrono>
 #include <csignal>
+#include <exception>
 #include <fmt/format.h>
 
 #include "analysis/spike_statistics.hpp"
+#include "cli/option_values.hpp"
 #include "cli/output_file.hpp"
 #include "cli/progress.hpp"
 #include "cli/subcommand.hpp"
 #include "core/error.hpp"
+#include "core/run_failure.hpp"
+#include "core/machine_memory.hpp"
 #include "devices/device_parameters.hpp"
+#include "kernel/memory_estimate.hpp"
+#include "kernel/run_cost.hpp"
 #include "kernel/simulation.hpp"
 #include "model/model_reader.hpp"
 #include "record/run_writer.hpp"
@@ -26,14 +32,27 @@ namespace {
 std::atomic<bool> g_interrupted{false};
 extern "C" void on_interrupt(int) { g_interrupted.store(true); }
 
-double parse_duration_option(const std::string& text) {
-  std::string why;
-  auto q = parse_quantity(text, why);
-  if (!q) throw UserError({}, "--duration", why + "; expected a time such as \"2 s\"");
-  if (q->dimension != Dimension::time)
-    throw UserError({}, "--duration", fmt::format("\"{}\" is a {}, expected a time such as \"2 s\"", text, dimension_name(q->dimension)));
-  if (!(q->value_si > 0)) throw UserError({}, "--duration", "must be positive");
-  return q->value_si;
+double parse_duration_option(const std::string& text, RangePolicy* ranges) {
+  const double duration = parse_quantity_option(text, "--duration", QuantityKind::duration, ranges);
+  if (!(duration > 0)) throw UserError({}, "--duration", "must be positive");
+  return duration;
+}
+
+// Implausible values accepted on purpose are reported, each once, on stderr.
+void print_range_warnings(const Model& model) {
+  if (!model.ranges) return;
+  for (const std::string& warning : model.ranges->warnings()) fmt::print(stderr, "{}\n", warning);
+  if (model.ranges->warnings_not_kept() > 0)
+    fmt::print(stderr, "warning: {} more implausible values accepted, not shown\n", model.ranges->warnings_not_kept());
+}
+
+void add_override_flags(CLI::App& cmd, LimitOverrides& overrides) {
+  cmd.add_flag("--allow-implausible", overrides.allow_implausible,
+               "Accept values outside the plausible range of their kind with a warning (as [simulation] "
+               "allow_implausible = true)");
+  cmd.add_flag("--allow-large-run", overrides.allow_large_run,
+               "Accept a run beyond the cost limits: windows, input spikes, events, recorded samples (as "
+               "[simulation] allow_large_run = true)");
 }
 
 // Streams what the kernel reports into the run file.
@@ -175,6 +194,24 @@ void write_device_records(RunWriter& writer, const Simulation& sim, double t_end
   }
 }
 
+// What `run` checks before it starts, with the limits (README, "Limits and plausible ranges").
+void print_estimates(const MemoryEstimate& memory, const RunCost& cost) {
+  auto n = [](double x) { return x < 1e6 ? fmt::format("{:.0f}", x) : fmt::format("{:.3g}", x); };
+  fmt::print("\nestimates before the run (limit without --allow-large-run in brackets)\n");
+  const MemoryItem* big = memory.largest();
+  fmt::print("  {:<16} {} (this machine has {}){}\n", "memory", format_bytes(memory.total_bytes),
+             format_bytes(static_cast<double>(physical_memory_bytes())),
+             big ? fmt::format("; largest part {} ({})", big->what, format_bytes(big->bytes)) : "");
+  auto limit = [](double x) { return fmt::format("10^{:.0f}", std::log10(x)); };
+  fmt::print("  {:<16} {} of {} ({})\n", "windows", n(cost.windows), format_quantity(cost.window, Dimension::time),
+             limit(RunLimits::windows));
+  fmt::print("  {:<16} {} ({})\n", "input spikes", n(cost.input_spikes), limit(RunLimits::input_spikes));
+  fmt::print("  {:<16} {} caused by input spikes ({}); those of the network's own spikes depend on its activity\n",
+             "synaptic events", n(cost.input_events), limit(RunLimits::input_events));
+  fmt::print("  {:<16} {} ({})\n", "trace values", n(cost.trace_values), limit(RunLimits::trace_values));
+  fmt::print("  {:<16} {} ({})\n", "weight values", n(cost.weight_values), limit(RunLimits::weight_values));
+}
+
 void print_summary_table(const std::vector<PopulationSummary>& rows) {
   fmt::print("{:<20} {:>9} {:>10} {:>10} {:>8}\n", "population", "neurons", "spikes", "rate_hz", "cv_isi");
   for (const auto& r : rows)
@@ -184,16 +221,22 @@ void print_summary_table(const std::vector<PopulationSummary>& rows) {
 }  // namespace
 
 int run_command(const RunOptions& options) {
-  const Model model = read_model_file(options.model);
+  const Model model = read_model_file(options.model, {options.overrides.allow_implausible});
   BuildOptions build;
   build.seed = options.seed;
-  if (options.duration) build.duration = parse_duration_option(*options.duration);
-  // The output folder must exist before any simulation work starts.
-  check_output_file(options.output, "-o");
+  build.allow_large_run = options.overrides.allow_large_run;
+  if (options.duration) build.duration = parse_duration_option(*options.duration, model.ranges.get());
+  // The output is checked against every file the model names before any work starts.
+  const CheckedOutput output = check_output_file(options.output, options.force, model.input_files());
   Simulation sim = Simulation::build(model, build);
+  print_range_warnings(model);
 
   RunSummary summary;
-  write_then_rename(options.output, [&](const std::string& partial) {
+  // A failure while the run goes on (a state that became NaN or infinite, a broken
+  // invariant) keeps the file, marked "failed" with the message, for diagnosis; it
+  // is thrown again once the file is in place. Failures before the run leave nothing.
+  std::exception_ptr run_failure;
+  write_then_rename(output, [&](const std::string& partial) {
     RunHeader header{NVSYN_VERSION, sim.seed(), sim.duration(), model.text, model.file};
     RunWriter writer(partial, header);
     try {
@@ -202,7 +245,21 @@ int run_command(const RunOptions& options) {
       RunFileObserver observer(writer, sim, progress);
       g_interrupted = false;
       auto previous = std::signal(SIGINT, on_interrupt);
-      summary = sim.run(observer, &g_interrupted);
+      try {
+        summary = sim.run(observer, &g_interrupted);
+      } catch (const UserError&) {
+        throw;
+      } catch (const std::exception& e) {
+        std::signal(SIGINT, previous);
+        progress.finish();
+        // End-state records (final weights, conductances) are left out: they may hold
+        // the very values that failed.
+        const bool internal = dynamic_cast<const RunFailure*>(&e) == nullptr;
+        writer.finish(RunStatus::failed, sim.time_reached(),
+                      internal ? fmt::format("internal error: {}", e.what()) : std::string(e.what()));
+        run_failure = std::current_exception();
+        return;
+      }
       std::signal(SIGINT, previous);
       progress.finish();
       write_learning_records(writer, sim, summary.time_reached);
@@ -220,6 +277,10 @@ int run_command(const RunOptions& options) {
     }
   });
 
+  if (run_failure) {
+    fmt::print("run file: {} (failed; complete up to model time {:g} s)\n", options.output, sim.time_reached());
+    std::rethrow_exception(run_failure);
+  }
   const bool complete = summary.reason == EndReason::complete;
   fmt::print("run file: {} ({})\n", options.output, complete ? "complete" : "interrupted");
   fmt::print("model time {:g} s in {:.2f} s wall ({:.3g}x real time); {} synaptic events, {} input spikes\n",
@@ -230,9 +291,12 @@ int run_command(const RunOptions& options) {
   return complete ? 0 : 130;
 }
 
-int check_command(const std::string& model_path) {
-  const Model model = read_model_file(model_path);
-  Simulation sim = Simulation::build(model);
+int check_command(const std::string& model_path, const LimitOverrides& overrides) {
+  const Model model = read_model_file(model_path, {overrides.allow_implausible});
+  BuildOptions build;
+  build.allow_large_run = overrides.allow_large_run;
+  Simulation sim = Simulation::build(model, build);
+  print_range_warnings(model);
   const Network& net = sim.network();
   std::size_t bytes = 0;
   fmt::print("model {}: OK\n", model_path);
@@ -249,7 +313,7 @@ int check_command(const std::string& model_path) {
   fmt::print("\ninputs\n");
   if (sim.inputs().empty()) fmt::print("  (none)\n");
   for (std::size_t i = 0; i < sim.inputs().size(); ++i) {
-    const InputGroup& in = sim.inputs()[i];
+    const InputChannel& in = sim.inputs()[i];
     if (in.spikes)
       fmt::print("  {:<20} {:>9} {}\n", in.name, in.spikes->size(), in.spikes->describe());
     else
@@ -318,8 +382,9 @@ int check_command(const std::string& model_path) {
       fmt::print("  {:<20} failures: {} out of range, {} on stuck or worn-out devices, {} not converged\n", "",
                  w.out_of_range, w.unresponsive, w.failed - w.out_of_range - w.unresponsive);
   }
-  fmt::print("\ntotal: {} neurons, {} synapses; estimated memory {:.1f} MiB\n", net.neuron_count(),
+  fmt::print("\ntotal: {} neurons, {} synapses; memory of the built network {:.1f} MiB\n", net.neuron_count(),
              net.synapse_count(), static_cast<double>(bytes) / (1024.0 * 1024.0));
+  print_estimates(estimate_memory(model), estimate_run_cost(sim));
   return 0;
 }
 
@@ -335,17 +400,21 @@ namespace nvsyn::cli {
 Subcommand register_run(CLI::App& app) {
   struct Args {
     RunOptions run;
+    OutputOption output;
     std::uint64_t seed = 0;
     std::string duration;
   };
   auto args = std::make_shared<Args>();
   auto* cmd = app.add_subcommand("run", "Run a model and write a run file (HDF5)");
   cmd->add_option("model", args->run.model, "Model file (TOML)")->required();
-  cmd->add_option("-o,--output", args->run.output, "Run file to write, e.g. run.h5")->required();
+  add_output_options(*cmd, args->output, "Run file to write, e.g. run.h5")->required();
   auto* seed_opt = cmd->add_option("--seed", args->seed, "Override the model's random seed");
   auto* duration_opt = cmd->add_option("--duration", args->duration, "Override the model time to simulate, e.g. \"2 s\"");
   cmd->add_flag("-q,--quiet", args->run.quiet, "Print no per-population summary at the end");
+  add_override_flags(*cmd, args->run.overrides);
   return {cmd, [args, seed_opt, duration_opt] {
+            args->run.output = args->output.path.value_or("");
+            args->run.force = args->output.force;
             if (*seed_opt) args->run.seed = args->seed;
             if (*duration_opt) args->run.duration = args->duration;
             return run_command(args->run);
@@ -353,10 +422,16 @@ Subcommand register_run(CLI::App& app) {
 }
 
 Subcommand register_check(CLI::App& app) {
-  auto model = std::make_shared<std::string>();
-  auto* cmd = app.add_subcommand("check", "Validate a model and print what would be built, with a memory estimate");
-  cmd->add_option("model", *model, "Model file (TOML)")->required();
-  return {cmd, [model] { return check_command(*model); }};
+  struct Args {
+    std::string model;
+    LimitOverrides overrides;
+  };
+  auto args = std::make_shared<Args>();
+  auto* cmd = app.add_subcommand(
+      "check", "Validate a model and print what would be built, with estimates of memory, windows, events and samples");
+  cmd->add_option("model", args->model, "Model file (TOML)")->required();
+  add_override_flags(*cmd, args->overrides);
+  return {cmd, [args] { return check_command(args->model, args->overrides); }};
 }
 
 Subcommand register_summary(CLI::App& app) {

@@ -25,7 +25,7 @@ namespace {
 
 struct DeviceBenchArgs {
   std::string preset;
-  std::string output;
+  OutputOption output;
   std::uint32_t devices = CharacterisationProtocol{}.devices;
   std::uint32_t cycles = CharacterisationProtocol{}.cycles;
   std::uint32_t pulses = 0;
@@ -67,13 +67,14 @@ int device_bench_command(const DeviceBenchArgs& args) {
   protocol.cycles = args.cycles;
   protocol.pulses = args.pulses;
   protocol.seed = args.seed;
-  protocol.read_delays = parse_quantity_list_option(args.read_delays, "--read-delays", Dimension::time);
+  protocol.read_delays = parse_quantity_list_option(args.read_delays, "--read-delays", QuantityKind::time_point);
   try {
     protocol.validate(device);
   } catch (const UserError& e) {
     throw UserError(e.where(), option_for(e.key()), e.message());
   }
-  if (!args.output.empty()) check_output_file(args.output, "-o");
+  std::optional<CheckedOutput> output;
+  if (args.output.path) output = check_output_file(*args.output.path, args.output.force, {preset.file});
 
   CharacterisationCurves curves;
   {
@@ -83,7 +84,7 @@ int device_bench_command(const DeviceBenchArgs& args) {
   }
   const CharacterisationSummary summary = summarise_characterisation(curves, device);
 
-  if (!args.output.empty()) {
+  if (output) {
     BenchFileHeader header;
     header.nvsyn_version = NVSYN_VERSION;
     header.preset = preset.name;
@@ -92,10 +93,10 @@ int device_bench_command(const DeviceBenchArgs& args) {
     header.device_model = std::string(device_kind_name(device.kind));
     header.protocol = protocol;
     header.protocol.pulses = curves.pulses;
-    write_then_rename(args.output, [&](const std::string& path) { write_bench_file(path, header, curves, summary); });
+    write_then_rename(*output, [&](const std::string& path) { write_bench_file(path, header, curves, summary); });
   }
   print_summary(preset, device, curves, summary);
-  if (!args.output.empty()) fmt::print("\nbench file: {}\n", args.output);
+  if (output) fmt::print("\nbench file: {}\n", output->path());
   return 0;
 }
 
@@ -107,7 +108,8 @@ Subcommand register_device_bench(CLI::App& app) {
       "device", "Characterise a device preset on a virtual bench: pulse ramps, drift, summary statistics");
   cmd->add_option("preset", args->preset, "Device preset: a name from models/devices (or NVSYN_PRESETS) or a .toml path")
       ->required();
-  cmd->add_option("-o,--output", args->output, "Bench file to write (HDF5), e.g. bench.h5; without it only the summary is printed");
+  add_output_options(*cmd, args->output,
+                     "Bench file to write (HDF5), e.g. bench.h5; without it only the summary is printed");
   cmd->add_option("--devices", args->devices, "Devices measured")->capture_default_str();
   cmd->add_option("--cycles", args->cycles, "Potentiation/depression cycles per device")->capture_default_str();
   cmd->add_option("--pulses", args->pulses,

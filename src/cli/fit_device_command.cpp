@@ -24,7 +24,7 @@ namespace {
 struct FitDeviceArgs {
   std::string data;
   std::string model;
-  std::string output;
+  OutputOption output;
   std::string name;
   double full_range_pulses = 0;
   int degree = 1;
@@ -46,7 +46,8 @@ int fit_device_command(const FitDeviceArgs& args, bool full_range_given) {
   if (!parse_device_kind(args.model, kind))
     throw UserError({}, "--model",
                     fmt::format("unknown device model '{}'; known models: {}", args.model, device_kind_list()));
-  if (!args.output.empty()) check_output_file(args.output, "-o");
+  std::optional<CheckedOutput> output;
+  if (args.output.path) output = check_output_file(*args.output.path, args.output.force, {args.data});
 
   const PulseData data = looks_like_hdf5(args.data) ? read_pulse_hdf5(args.data) : read_pulse_csv(args.data);
   calibration::FitOptions options;
@@ -56,27 +57,27 @@ int fit_device_command(const FitDeviceArgs& args, bool full_range_given) {
 
   calibration::PresetInfo info;
   info.name = !args.name.empty()     ? args.name
-              : !args.output.empty() ? std::filesystem::path(args.output).stem().string()
+              : output               ? std::filesystem::path(output->path()).stem().string()
                                      : "fitted_" + args.model;
   info.command = fmt::format("nvsyn fit-device {} --model {}", args.data, args.model);
   if (full_range_given) info.command += fmt::format(" --full-range-pulses {:g}", args.full_range_pulses);
   if (args.degree != 1) info.command += fmt::format(" --degree {}", args.degree);
   const std::string text = calibration::fitted_preset_text(fit, info);
-  check_loads(text, args.output.empty() ? "(fitted preset)" : args.output);
+  check_loads(text, output ? output->path() : "(fitted preset)");
 
   const std::string summary = calibration::fit_summary_text(fit);
-  if (args.output.empty()) {
+  if (!output) {
     fmt::print("{}", text);
     fmt::print(stderr, "{}", summary);
     return 0;
   }
-  write_then_rename(args.output, [&](const std::string& path) {
+  write_then_rename(*output, [&](const std::string& path) {
     std::ofstream out(path, std::ios::binary);
     out << text;
     out.close();
-    if (!out) throw UserError({args.output}, "-o", "cannot write the preset");
+    if (!out) throw UserError({output->path()}, "-o", "cannot write the preset");
   });
-  fmt::print("{}preset written to {}\n", summary, args.output);
+  fmt::print("{}preset written to {}\n", summary, output->path());
   return 0;
 }
 
@@ -90,7 +91,7 @@ Subcommand register_fit_device(CLI::App& app) {
                   "(optionally read_time [s]), or HDF5 with those datasets in /pulses")
       ->required();
   cmd->add_option("--model", args->model, "Device model to fit: " + device_kind_list())->required();
-  cmd->add_option("-o,--output", args->output, "Preset to write (TOML); default: print it to stdout");
+  add_output_options(*cmd, args->output, "Preset to write (TOML); default: print it to stdout");
   cmd->add_option("--name", args->name, "The preset's name (default: the output file's name)");
   auto* full_range =
       cmd->add_option("--full-range-pulses", args->full_range_pulses,

@@ -1,12 +1,14 @@
 // nvsyn: command-line entry point. Wires the library's steps together; owns no
-// simulation logic. Exit status: 0 complete, 2 user error, 1 internal error,
-// 130 interrupted (the run file is kept, with status "interrupted").
+// simulation logic. Exit status: 0 complete, 2 user error, 1 internal error or a
+// run that failed (a state became NaN or infinite; the run file is kept, with status
+// "failed"), 130 interrupted (the run file is kept, with status "interrupted").
 #include <CLI/CLI.hpp>
 #include <fmt/format.h>
 #include <vector>
 
 #include "cli/subcommand.hpp"
 #include "core/error.hpp"
+#include "core/run_failure.hpp"
 
 #ifndef NVSYN_VERSION
 #define NVSYN_VERSION "unknown"
@@ -65,6 +67,14 @@ int main(int argc, char** argv) {
   } catch (const nvsyn::UserError& e) {
     fmt::print(stderr, "{}\n", e.what());
     return 2;
+  } catch (const nvsyn::RunFailure& e) {
+    // Not necessarily a bug: extreme parameters can drive a state out of range.
+    fmt::print(stderr,
+               "error: the run failed: {}\nThe run file keeps everything recorded before then, with status \"failed\" "
+               "and this message. Values outside the plausible ranges (allowed with allow_implausible) are the usual "
+               "cause.\n",
+               e.what());
+    return 1;
   } catch (const nvsyn::InternalError& e) {
     fmt::print(stderr, "internal error: {}\nThis is a bug in nvsyn; please report it with the input files.\n", e.what());
     return 1;

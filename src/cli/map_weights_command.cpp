@@ -31,7 +31,7 @@ struct MapWeightsArgs {
   std::string weight_max, gain, layout, tolerance, unit;
   std::uint32_t devices_per_synapse = 0;
   std::string times = "0 s,1 h,1 d,1 yr,10 yr";
-  std::string output;
+  OutputOption output;
   std::uint64_t seed = 1;
 };
 
@@ -111,9 +111,9 @@ int map_weights_command(const MapWeightsArgs& args) {
 
   WeightMappingOptions options;
   options.seed = args.seed;
-  options.times = parse_quantity_list_option(args.times, "--times", Dimension::time);
+  options.times = parse_quantity_list_option(args.times, "--times", QuantityKind::time_point);
   if (!args.tolerance.empty()) {
-    options.tolerance = parse_quantity_option(args.tolerance, "--tolerance", Dimension::current);
+    options.tolerance = parse_quantity_option(args.tolerance, "--tolerance", QuantityKind::current);
     if (options.tolerance < 0) throw UserError({}, "--tolerance", "must not be negative");
   }
   try {
@@ -121,7 +121,9 @@ int map_weights_command(const MapWeightsArgs& args) {
   } catch (const UserError& e) {
     throw UserError(e.where(), option_for(e.key()), e.message());
   }
-  if (!args.output.empty()) check_output_file(args.output, "-o");
+  std::optional<CheckedOutput> output;
+  if (args.output.path)
+    output = check_output_file(*args.output.path, args.output.force, {args.weights_file, preset.file});
 
   WeightMappingResult result;
   {
@@ -129,7 +131,7 @@ int map_weights_command(const MapWeightsArgs& args) {
     result = map_weights(matrix.values, device, layout, options,
                          [&](std::uint64_t done, std::uint64_t total) { progress.update(done, total); });
   }
-  if (!args.output.empty()) {
+  if (output) {
     MappingFileHeader h;
     h.nvsyn_version = NVSYN_VERSION;
     h.seed = options.seed;
@@ -145,10 +147,10 @@ int map_weights_command(const MapWeightsArgs& args) {
     h.weights_unit = matrix.unit;
     h.rows = matrix.rows;
     h.columns = matrix.columns;
-    write_then_rename(args.output, [&](const std::string& path) { write_mapping_file(path, h, result); });
+    write_then_rename(*output, [&](const std::string& path) { write_mapping_file(path, h, result); });
   }
   print_report(matrix, preset, device, layout, result);
-  if (!args.output.empty()) fmt::print("mapping file: {}\n", args.output);
+  if (output) fmt::print("mapping file: {}\n", output->path());
   return 0;
 }
 
@@ -173,7 +175,7 @@ Subcommand register_map_weights(CLI::App& app) {
   cmd->add_option("--tolerance", args->tolerance,
                   "Error counted as 'within' (default: the verify tolerance as a weight)");
   cmd->add_option("--unit", args->unit, "Unit of the values in the weights file, e.g. nA (instead of a '# unit:' line)");
-  cmd->add_option("-o,--output", args->output, "Weight-mapping file to write (HDF5), e.g. mapping.h5");
+  add_output_options(*cmd, args->output, "Weight-mapping file to write (HDF5), e.g. mapping.h5");
   cmd->add_option("--seed", args->seed, "Random seed")->capture_default_str();
   return {cmd, [args] { return map_weights_command(*args); }};
 }

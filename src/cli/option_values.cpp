@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <array>
 #include <cmath>
+#include <cstdlib>
 #include <fmt/format.h>
 #include <string_view>
 
@@ -10,7 +11,9 @@
 
 namespace nvsyn::cli {
 
-double parse_quantity_option(const std::string& text, const std::string& option, Dimension dimension) {
+double parse_quantity_option(const std::string& text, const std::string& option, QuantityKind kind,
+                             RangePolicy* ranges) {
+  const Dimension dimension = plausible_range(kind).dimension;
   std::string why;
   const auto q = parse_quantity(text, why);
   const std::string example = fmt::format("\"{}\"", format_quantity(1.0, dimension));
@@ -19,11 +22,12 @@ double parse_quantity_option(const std::string& text, const std::string& option,
   if (q->dimension != dimension)
     throw UserError({}, option, fmt::format("\"{}\" is a {}, expected a {}", text, dimension_name(q->dimension),
                                             dimension_name(dimension)));
+  check_plausible(q->value_si, kind, fmt::format("\"{}\"", text), {}, option, "", ranges);
   return q->value_si;
 }
 
 std::vector<double> parse_quantity_list_option(const std::string& text, const std::string& option,
-                                               Dimension dimension) {
+                                               QuantityKind kind, RangePolicy* ranges) {
   std::vector<double> values;
   std::size_t start = 0;
   while (true) {
@@ -35,7 +39,7 @@ std::vector<double> parse_quantity_list_option(const std::string& text, const st
     if (item.empty())
       throw UserError({}, option, fmt::format("item {} of \"{}\" is empty; separate quantities with single commas",
                                               values.size() + 1, text));
-    values.push_back(parse_quantity_option(item, option, dimension));
+    values.push_back(parse_quantity_option(item, option, kind, ranges));
     if (comma == std::string::npos) break;
     start = comma + 1;
   }
@@ -46,7 +50,10 @@ std::string format_rounded(double value_si, Dimension dimension, int digits) {
   if (std::isnan(value_si)) return "n/a";
   if (std::isinf(value_si)) return value_si > 0 ? "inf" : "-inf";
   const std::string unit = format_quantity(1.0, dimension).substr(2);  // "1 S" -> "S"
-  const double rounded = std::stod(fmt::format("{:.{}g}", value_si, digits));
+  // strtod, not stod: stod throws for results that underflow to subnormal numbers
+  // ("1e-309"), which a value this small rounds to (std::stod reports ERANGE as an
+  // exception; strtod returns the nearest double).
+  const double rounded = std::strtod(fmt::format("{:.{}g}", value_si, digits).c_str(), nullptr);
   if (rounded == 0.0 || dimension == Dimension::dimensionless) return fmt::format("{:g} {}", rounded, unit);
   struct Prefix {
     int exponent;

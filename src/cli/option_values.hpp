@@ -1,18 +1,22 @@
 #pragma once
 // Quantities given on the command line ("5 uV", "1 s,1 h,10 yr"): parsed with the
-// model files' unit rules (core/units.hpp); a mistake is a UserError naming the option.
+// model files' unit rules (core/units.hpp) and checked against the plausible range
+// of their kind (core/plausible_range.hpp; `ranges` may allow implausible values,
+// null refuses them); a mistake is a UserError naming the option.
 #include <string>
 #include <vector>
 
+#include "core/plausible_range.hpp"
 #include "core/units.hpp"
 
 namespace nvsyn::cli {
 
-double parse_quantity_option(const std::string& text, const std::string& option, Dimension dimension);
+double parse_quantity_option(const std::string& text, const std::string& option, QuantityKind kind,
+                             RangePolicy* ranges = nullptr);
 
-// Comma-separated quantities of one dimension, in the order given.
+// Comma-separated quantities of one kind, in the order given.
 std::vector<double> parse_quantity_list_option(const std::string& text, const std::string& option,
-                                               Dimension dimension);
+                                               QuantityKind kind, RangePolicy* ranges = nullptr);
 
 // A quantity rounded to `digits` significant digits, with the SI prefix that keeps
 // the number in [1, 1000) ("12.3 uS", "1 uS"); "n/a" for NaN.

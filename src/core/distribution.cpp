@@ -46,36 +46,36 @@ std::string Distribution::describe(Dimension dim) const {
   return "?";
 }
 
-Distribution read_distribution(const ParamTable& table, const std::string& key, Dimension dim) {
+Distribution read_distribution(const ParamTable& table, const std::string& key, QuantityKind kind) {
   const ParamValue& v = table.value(key);
-  if (!v.is_table()) return Distribution::constant(ParamTable::to_quantity(v, key, dim));
+  if (!v.is_table()) return Distribution::constant(table.to_quantity(v, key, kind));
   const auto& t = *std::get<std::shared_ptr<ParamTable>>(v.value);
   Distribution d;
-  const std::string kind = t.text("dist");
-  if (kind == "normal") {
+  const std::string form = t.text("dist");
+  if (form == "normal") {
     d.kind = Distribution::Kind::normal;
-    d.a = t.quantity("mean", dim);
-    d.b = t.quantity("sd", dim);
+    d.a = t.quantity("mean", kind);
+    d.b = t.quantity("sd", kind);
     if (d.b < 0) throw t.error("sd", "a standard deviation cannot be negative");
-  } else if (kind == "uniform") {
+  } else if (form == "uniform") {
     d.kind = Distribution::Kind::uniform;
-    d.a = t.quantity("low", dim);
-    d.b = t.quantity("high", dim);
+    d.a = t.quantity("low", kind);
+    d.b = t.quantity("high", kind);
     if (d.b < d.a) throw t.error("high", "'high' must not be below 'low'");
-  } else if (kind == "lognormal") {
+  } else if (form == "lognormal") {
     d.kind = Distribution::Kind::lognormal;
-    d.a = t.quantity("median", dim);
-    d.b = t.number("sigma");
+    d.a = t.quantity("median", kind);
+    d.b = t.number("sigma", QuantityKind::spread);
     if (d.a <= 0) throw t.error("median", "a lognormal median must be positive");
     if (d.b < 0) throw t.error("sigma", "sigma cannot be negative");
-  } else if (kind == "constant") {
-    d.a = t.quantity("value", dim);
+  } else if (form == "constant") {
+    d.a = t.quantity("value", kind);
   } else {
-    throw t.error("dist", fmt::format("unknown distribution '{}'; expected normal, uniform, lognormal or constant", kind));
+    throw t.error("dist", fmt::format("unknown distribution '{}'; expected normal, uniform, lognormal or constant", form));
   }
   if (d.kind == Distribution::Kind::normal || d.kind == Distribution::Kind::lognormal) {
-    d.low = t.quantity_or("low", dim, d.low);
-    d.high = t.quantity_or("high", dim, d.high);
+    d.low = t.quantity_or("low", kind, d.low);
+    d.high = t.quantity_or("high", kind, d.high);
     if (d.high < d.low) throw t.error("high", "'high' must not be below 'low'");
   }
   t.reject_unknown_keys();

@@ -35,7 +35,8 @@ struct Distribution {
   std::string describe(Dimension dim) const;
 };
 
-// Reads a distribution from table[key]; every number carries the dimension `dim`.
-Distribution read_distribution(const ParamTable& table, const std::string& key, Dimension dim);
+// Reads a distribution from table[key]; every value (mean, sd, bounds...) is of `kind`,
+// the sigma of a lognormal is a spread.
+Distribution read_distribution(const ParamTable& table, const std::string& key, QuantityKind kind);
 
 }  // namespace nvsyn

@@ -59,7 +59,10 @@ const ParamValue& ParamTable::value(const std::string& key) const {
   throw UserError(near->second.where, key, text);
 }
 
-double ParamTable::to_quantity(const ParamValue& v, const std::string& key, Dimension dim) {
+namespace {
+
+// The value in SI units of dimension `dim`, finite, or a UserError at the value.
+double convert_quantity(const ParamValue& v, const std::string& key, Dimension dim) {
   auto wrong = [&](const std::string& why) {
     std::string expected =
         dim == Dimension::dimensionless
@@ -86,28 +89,45 @@ double ParamTable::to_quantity(const ParamValue& v, const std::string& key, Dime
   return q->value_si;
 }
 
-double ParamTable::quantity(const std::string& key, Dimension dim) const {
-  return to_quantity(value(key), key, dim);
+// The value as the user wrote it, for messages.
+std::string as_written(const ParamValue& v) {
+  if (const auto* s = std::get_if<std::string>(&v.value)) return fmt::format("\"{}\"", *s);
+  if (const auto* d = std::get_if<double>(&v.value)) return fmt::format("{:g}", *d);
+  if (const auto* i = std::get_if<std::int64_t>(&v.value)) return fmt::format("{}", *i);
+  return std::string(v.type_name());
 }
 
-double ParamTable::quantity_or(const std::string& key, Dimension dim, double fallback) const {
+}  // namespace
+
+double ParamTable::to_quantity(const ParamValue& v, const std::string& key, QuantityKind kind) const {
+  const double value = convert_quantity(v, key, plausible_range(kind).dimension);
+  check_plausible(value, kind, as_written(v), v.where, key, context_, ranges_.get());
+  return value;
+}
+
+double ParamTable::quantity(const std::string& key, QuantityKind kind) const {
+  return to_quantity(value(key), key, kind);
+}
+
+double ParamTable::quantity_or(const std::string& key, QuantityKind kind, double fallback) const {
   const ParamValue* v = find(key);
-  return v ? to_quantity(*v, key, dim) : fallback;
+  return v ? to_quantity(*v, key, kind) : fallback;
 }
 
-std::optional<double> ParamTable::quantity_if(const std::string& key, Dimension dim) const {
+std::optional<double> ParamTable::quantity_if(const std::string& key, QuantityKind kind) const {
   const ParamValue* v = find(key);
   if (!v) return std::nullopt;
-  return to_quantity(*v, key, dim);
+  return to_quantity(*v, key, kind);
 }
 
-double ParamTable::number(const std::string& key) const {
-  return to_quantity(value(key), key, Dimension::dimensionless);
+double ParamTable::number(const std::string& key, QuantityKind kind) const {
+  if (plausible_range(kind).dimension != Dimension::dimensionless)
+    throw InternalError(fmt::format("'{}' of kind {} read as a plain number", key, plausible_range(kind).name));
+  return quantity(key, kind);
 }
 
-double ParamTable::number_or(const std::string& key, double fallback) const {
-  const ParamValue* v = find(key);
-  return v ? to_quantity(*v, key, Dimension::dimensionless) : fallback;
+double ParamTable::number_or(const std::string& key, QuantityKind kind, double fallback) const {
+  return find(key) ? number(key, kind) : fallback;
 }
 
 std::int64_t ParamTable::integer(const std::string& key) const {
@@ -118,6 +138,14 @@ std::int64_t ParamTable::integer(const std::string& key) const {
 
 std::int64_t ParamTable::integer_or(const std::string& key, std::int64_t fallback) const {
   return find(key) ? integer(key) : fallback;
+}
+
+std::int64_t ParamTable::integer_or(const std::string& key, QuantityKind kind, std::int64_t fallback) const {
+  if (!find(key)) return fallback;
+  const std::int64_t n = integer(key);
+  const ParamValue& v = value(key);
+  check_plausible(static_cast<double>(n), kind, as_written(v), v.where, key, context_, ranges_.get());
+  return n;
 }
 
 std::string ParamTable::text(const std::string& key) const {
@@ -151,6 +179,7 @@ const ParamValue::Array& ParamTable::array(const std::string& key) const {
 
 std::shared_ptr<ParamTable> ParamTable::overlaid_with(const ParamTable& overrides, std::string context) const {
   auto out = std::make_shared<ParamTable>(overrides.where_, std::move(context));
+  out->ranges_ = overrides.ranges_ ? overrides.ranges_ : ranges_;
   out->entries_ = entries_;
   for (const auto& [key, value] : overrides.entries_) out->entries_[key] = value;
   return out;

@@ -6,6 +6,11 @@
 // interface. Every error therefore names file, line, column and key, and models
 // never see the file format. A table remembers which keys were read so that
 // `reject_unknown_keys()` can point at a typo and suggest the closest valid key.
+//
+// Every quantity is read with its QuantityKind (core/plausible_range.hpp): the kind
+// fixes the dimension and the plausible range, and the table's RangePolicy (shared by
+// all tables of one model) decides whether a value outside the range is refused or
+// accepted with a warning. Tables without a policy refuse.
 #include <cstdint>
 #include <map>
 #include <memory>
@@ -16,6 +21,7 @@
 #include <vector>
 
 #include "core/error.hpp"
+#include "core/plausible_range.hpp"
 #include "core/units.hpp"
 
 namespace nvsyn {
@@ -52,14 +58,20 @@ class ParamTable {
   std::vector<std::string> keys() const;
 
   // Required and defaulted accessors. All mark the key as used and throw UserError
-  // (with file:line:col and key) on a wrong type, unit or dimension.
-  double quantity(const std::string& key, Dimension dim) const;
-  double quantity_or(const std::string& key, Dimension dim, double fallback) const;
-  std::optional<double> quantity_if(const std::string& key, Dimension dim) const;
-  double number(const std::string& key) const;
-  double number_or(const std::string& key, double fallback) const;
+  // (with file:line:col and key) on a wrong type, unit or dimension, a non-finite
+  // value, or (as the policy says) a value outside the kind's plausible range.
+  // Fallbacks are the caller's defaults and are not checked.
+  double quantity(const std::string& key, QuantityKind kind) const;
+  double quantity_or(const std::string& key, QuantityKind kind, double fallback) const;
+  std::optional<double> quantity_if(const std::string& key, QuantityKind kind) const;
+  // Dimensionless kinds: plain TOML numbers.
+  double number(const std::string& key, QuantityKind kind) const;
+  double number_or(const std::string& key, QuantityKind kind, double fallback) const;
+  // Whole numbers; structural ones (sizes, seeds, indices) without a kind, counts
+  // that have a plausible range with theirs.
   std::int64_t integer(const std::string& key) const;
   std::int64_t integer_or(const std::string& key, std::int64_t fallback) const;
+  std::int64_t integer_or(const std::string& key, QuantityKind kind, std::int64_t fallback) const;
   std::string text(const std::string& key) const;
   std::string text_or(const std::string& key, const std::string& fallback) const;
   bool flag_or(const std::string& key, bool fallback) const;
@@ -68,8 +80,14 @@ class ParamTable {
   std::shared_ptr<const ParamTable> table(const std::string& key) const;  // required sub-table
   const ParamValue::Array& array(const std::string& key) const;           // required array
 
-  // Converts one value to a quantity of the given dimension (also used for array items).
-  static double to_quantity(const ParamValue& v, const std::string& key, Dimension dim);
+  // Converts one value (an entry or an array item of this table) to a quantity of the
+  // given kind, with the same checks as the accessors.
+  double to_quantity(const ParamValue& v, const std::string& key, QuantityKind kind) const;
+
+  // The policy for implausible values, shared by every table of one model file (and
+  // the presets and lists it names); null: refuse them.
+  void set_range_policy(std::shared_ptr<RangePolicy> policy) { ranges_ = std::move(policy); }
+  const std::shared_ptr<RangePolicy>& range_policy() const { return ranges_; }
 
   // A new table holding this table's entries, replaced or extended by those of
   // `overrides` (each value keeps the position of the file it came from).
@@ -89,6 +107,7 @@ class ParamTable {
   std::string context_;
   std::map<std::string, ParamValue> entries_;
   mutable std::set<std::string> used_;
+  std::shared_ptr<RangePolicy> ranges_;
 };
 
 // Edit distance, for "did you mean" suggestions.

@@ -45,16 +45,30 @@ double RandomStream::uniform() {
   return (static_cast<double>(b) + 0.5) * 0x1.0p-53;
 }
 
+namespace {
+
+// Box-Muller (Box & Muller, Ann. Math. Stat. 29:610, 1958): two independent standard
+// normals from two uniforms, r cos(phi) and r sin(phi).
+std::array<double, 2> box_muller(double u1, double u2) {
+  const double r = std::sqrt(-2.0 * std::log(u1));
+  const double phi = 2.0 * std::numbers::pi * u2;
+  return {r * std::cos(phi), r * std::sin(phi)};
+}
+
+}  // namespace
+
+std::array<double, 2> block_normals(const RandomBlock& b) { return box_muller(block_uniform(b, 0), block_uniform(b, 1)); }
+
 double RandomStream::normal() {
   if (has_spare_normal_) {
     has_spare_normal_ = false;
     return spare_normal_;
   }
-  const double r = std::sqrt(-2.0 * std::log(uniform()));
-  const double phi = 2.0 * std::numbers::pi * uniform();
-  spare_normal_ = r * std::sin(phi);
+  const double u1 = uniform();
+  const auto z = box_muller(u1, uniform());
+  spare_normal_ = z[1];
   has_spare_normal_ = true;
-  return r * std::cos(phi);
+  return z[0];
 }
 
 double RandomStream::exponential() { return -std::log(uniform()); }

@@ -31,6 +31,30 @@ enum class StreamPurpose : std::uint32_t {
   initial_state = 12,
 };
 
+// One block of a stream without a stream object, for hot paths that need exactly one
+// block (a device read, a rounding draw). `random_block(seed, purpose, entity, b)` holds
+// the four words a RandomStream(seed, purpose, entity) yields after seek_block(b), so the
+// numbers below equal that stream's draws bit for bit.
+using RandomBlock = std::array<std::uint32_t, 4>;
+inline RandomBlock random_block(std::uint64_t seed, StreamPurpose purpose, std::uint64_t entity,
+                                std::uint64_t block) {
+  // The key and counter layout of RandomStream (random_stream.cpp).
+  const r123::Philox4x32::key_type key{{static_cast<std::uint32_t>(seed), static_cast<std::uint32_t>(seed >> 32)}};
+  const r123::Philox4x32::ctr_type counter{{static_cast<std::uint32_t>(block), static_cast<std::uint32_t>(purpose),
+                                           static_cast<std::uint32_t>(entity),
+                                           static_cast<std::uint32_t>(entity >> 32)}};
+  const auto out = r123::Philox4x32{}(counter, key);
+  return {out[0], out[1], out[2], out[3]};
+}
+// Uniform i (0 or 1) of a block on (0, 1): RandomStream::uniform's i-th draw after seek_block.
+inline double block_uniform(const RandomBlock& b, unsigned i) {
+  const std::uint64_t bits = (std::uint64_t{b[2 * i]} << 32) | b[2 * i + 1];
+  return (static_cast<double>(bits >> 11) + 0.5) * 0x1.0p-53;
+}
+// Both standard normals of a block (one Box-Muller pair): RandomStream::normal's first
+// and second draws after seek_block.
+std::array<double, 2> block_normals(const RandomBlock& b);
+
 class RandomStream {
  public:
   RandomStream(std::uint64_t seed, StreamPurpose purpose, std::uint64_t entity);

@@ -112,6 +112,10 @@ std::optional<Quantity> parse_quantity(std::string_view text, std::string& why) 
   const char* first = s.data();
   if (*first == '+') ++first;
   auto [end, ec] = std::from_chars(first, s.data() + s.size(), number);
+  if (ec == std::errc::result_out_of_range) {
+    why = fmt::format("the number in '{}' is too large or too small for a double", s);
+    return std::nullopt;
+  }
   if (ec != std::errc{}) {
     why = fmt::format("'{}' does not start with a number", s);
     return std::nullopt;
@@ -130,7 +134,31 @@ std::optional<Quantity> parse_quantity(std::string_view text, std::string& why) 
     why = fmt::format("unknown unit '{}' in '{}'", unit, s);
     return std::nullopt;
   }
-  return Quantity{number * factor->value_si, factor->dimension};
+  // Finite as written is not enough: "1e300 TA" overflows and "1e-300 fA" underflows
+  // once the prefix is applied.
+  const double value_si = number * factor->value_si;
+  if (!std::isfinite(value_si)) {
+    why = fmt::format("'{}' is not a finite number in SI units ({} times {:g} overflows)", s, number,
+                      factor->value_si);
+    return std::nullopt;
+  }
+  if (number != 0.0 && std::fpclassify(value_si) != FP_NORMAL) {
+    why = fmt::format("'{}' is too small to represent in SI units ({} times {:g} underflows)", s, number,
+                      factor->value_si);
+    return std::nullopt;
+  }
+  return Quantity{value_si, factor->dimension};
+}
+
+std::string format_time(double seconds) {
+  const double magnitude = std::fabs(seconds);
+  if (!(magnitude >= 60.0)) return format_quantity(seconds, Dimension::time);
+  if (magnitude >= 1e6 * 365.25 * 86400.0) return fmt::format("{:g} s", seconds);
+  const NamedUnit* best = &kNamedUnits[0];  // min; then the largest time unit not above the value
+  for (const auto& named : kNamedUnits)
+    if (named.dimension == Dimension::time && magnitude >= named.factor) best = &named;
+  const double x = seconds / best->factor;
+  return std::fabs(x) >= 100.0 ? fmt::format("{:.0f} {}", x, best->symbol) : fmt::format("{:.3g} {}", x, best->symbol);
 }
 
 std::string format_quantity(double value_si, Dimension d) {

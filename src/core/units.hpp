@@ -31,11 +31,16 @@ struct Quantity {
 };
 
 // Parses "<number> <unit>" (space optional). Returns nullopt and sets `why` on failure.
-// Rejects NaN and infinities. Prefixes f p n u (or µ) m k M G T apply to
+// Rejects NaN and infinities, also those that arise from the prefix ("1e300 TA"), and
+// nonzero values that underflow to zero or to a subnormal number ("1e-300 fA"). Prefixes f p n u (or µ) m k M G T apply to
 // s V A S F Ohm Hz J C; "min", "h", "d", "yr" are also times.
 std::optional<Quantity> parse_quantity(std::string_view text, std::string& why);
 
 // Formats an SI value with a readable prefix, e.g. 0.02 s -> "20 ms".
 std::string format_quantity(double value_si, Dimension d);
+
+// A time for messages: below a minute as format_quantity ("20 ms"), above it in min,
+// h, d or yr ("33.3 min", "31.7 yr", "10000 yr"); beyond 10^6 yr in seconds ("1e+300 s").
+std::string format_time(double seconds);
 
 }  // namespace nvsyn

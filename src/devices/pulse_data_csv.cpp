@@ -1,17 +1,15 @@
 #include "devices/pulse_data_csv.hpp"
 
 #include <array>
-#include <cerrno>
 #include <charconv>
 #include <cmath>
 #include <cstring>
-#include <filesystem>
 #include <fmt/format.h>
-#include <fstream>
 #include <limits>
 #include <optional>
 #include <sstream>
 
+#include "core/input_file.hpp"
 #include "core/units.hpp"
 
 namespace nvsyn {
@@ -192,13 +190,7 @@ PulseData parse_pulse_csv(const std::string& text, const std::string& file_name)
 }
 
 PulseData read_pulse_csv(const std::string& path) {
-  std::error_code ec;
-  if (std::filesystem::is_directory(path, ec)) throw UserError({path}, "", "is a folder, not a pulse-data file");
-  std::ifstream in(path, std::ios::binary);
-  if (!in) throw UserError({path}, "", fmt::format("cannot read the pulse-data file: {}", std::strerror(errno)));
-  std::ostringstream text;
-  text << in.rdbuf();
-  return parse_pulse_csv(text.str(), path);
+  return parse_pulse_csv(read_input_text(path, "pulse-data file"), path);
 }
 
 }  // namespace nvsyn

@@ -1,7 +1,9 @@
 #include "devices/synapse_devices.hpp"
 
 #include <algorithm>
+#include <array>
 #include <cmath>
+#include <limits>
 #include <fmt/format.h>
 
 namespace nvsyn {
@@ -48,8 +50,10 @@ SynapseLayoutParameters SynapseLayoutParameters::from_table(const ParamTable& t,
     if (arbitration == "round_robin") s.arbitration = Arbitration::round_robin;
     else if (arbitration == "counter") s.arbitration = Arbitration::counter;
     else throw t.error("arbitration", fmt::format("unknown arbitration '{}'; expected round_robin or counter", arbitration));
-    const std::int64_t limit = t.integer_or("counter_limit", s.counter_limit);
+    const std::int64_t limit = t.integer_or("counter_limit", QuantityKind::update_count, s.counter_limit);
     if (limit < 1) throw t.error("counter_limit", "must be at least 1");
+    if (limit > std::numeric_limits<std::uint32_t>::max())
+      throw t.error("counter_limit", fmt::format("{} does not fit the 32-bit counter", limit));
     s.counter_limit = static_cast<std::uint32_t>(limit);
   }
   // The gain is given directly, or as the weight a fully programmed synapse carries:
@@ -59,10 +63,10 @@ SynapseLayoutParameters SynapseLayoutParameters::from_table(const ParamTable& t,
                   "give exactly one of 'gain' (weight per siemens, a voltage such as \"5 uV\") and 'weight_max' "
                   "(the weight of a fully programmed synapse, a current such as \"0.1 nA\")");
   if (t.has("gain")) {
-    s.gain = t.quantity("gain", Dimension::voltage);
+    s.gain = t.quantity("gain", QuantityKind::gain);
     if (!(s.gain > 0)) throw t.error("gain", "must be positive (the weight's sign comes from the receptor)");
   } else {
-    const double w_max = t.quantity("weight_max", Dimension::current);
+    const double w_max = t.quantity("weight_max", QuantityKind::weight_scale);
     if (!(w_max > 0)) throw t.error("weight_max", "must be positive (the weight's sign comes from the receptor)");
     const double span = s.layout == SynapseLayout::multi ? s.devices_per_synapse * device.g_max
                         : s.layout == SynapseLayout::single ? device.g_max
@@ -70,16 +74,18 @@ SynapseLayoutParameters SynapseLayoutParameters::from_table(const ParamTable& t,
     s.gain = w_max / span;
   }
   if (s.layout == SynapseLayout::differential) {
-    s.refresh_threshold = t.number_or("refresh_threshold", 0.0);
+    s.refresh_threshold = t.number_or("refresh_threshold", QuantityKind::fraction, 0.0);
     if (!(s.refresh_threshold >= 0 && s.refresh_threshold <= 1))
       throw t.error("refresh_threshold", "a fraction of g_max in [0, 1] (0 turns refresh off)");
-    s.refresh_interval = t.quantity_or("refresh_interval", Dimension::time, 0.0);
+    s.refresh_interval = t.quantity_or("refresh_interval", QuantityKind::interval, 0.0);
     if (s.refresh_interval < 0) throw t.error("refresh_interval", "must not be negative");
   }
-  s.verify.tolerance = t.quantity_or("verify_tolerance", Dimension::conductance, 0.5 * device.nominal_step());
+  s.verify.tolerance = t.quantity_or("verify_tolerance", QuantityKind::conductance, 0.5 * device.nominal_step());
   if (s.verify.tolerance < 0) throw t.error("verify_tolerance", "must not be negative");
-  const std::int64_t attempts = t.integer_or("verify_attempts", s.verify.max_attempts);
+  const std::int64_t attempts = t.integer_or("verify_attempts", QuantityKind::verify_attempts, s.verify.max_attempts);
   if (attempts < 1) throw t.error("verify_attempts", "must be at least 1");
+  if (attempts > std::numeric_limits<std::uint32_t>::max())
+    throw t.error("verify_attempts", fmt::format("{} does not fit the 32-bit attempt counter", attempts));
   s.verify.max_attempts = static_cast<std::uint32_t>(attempts);
   if (!device.bidirectional() && s.layout == SynapseLayout::single)
     throw t.error("layout", "a phase-change device cannot depress gradually; use layout = \"differential\"");
@@ -99,10 +105,25 @@ double SynapseDevices::read_weight(std::size_t k, double t) {
   double g = 0.0;
   switch (layout_.layout) {
     case SynapseLayout::single: g = devices_.read(base, t); break;
-    case SynapseLayout::differential: g = devices_.read(base, t) - devices_.read(base + 1, t); break;
-    case SynapseLayout::multi:
-      for (std::uint32_t j = 0; j < layout_.devices(); ++j) g += devices_.read(base + j, t);
+    case SynapseLayout::differential: {
+      const std::array<double, 2> pair = devices_.read_pair(base, t);
+      g = pair[0] - pair[1];
       break;
+    }
+    case SynapseLayout::multi: {
+      // Devices read two at a time share a random block (DeviceArray::read_pair);
+      // the sum is taken in device order either way.
+      const std::uint32_t n = layout_.devices();
+      std::uint32_t j = 0;
+      if (base % 2 != 0) g += devices_.read(base + j++, t);
+      for (; j + 1 < n; j += 2) {
+        const std::array<double, 2> pair = devices_.read_pair(base + j, t);
+        g += pair[0];
+        g += pair[1];
+      }
+      if (j < n) g += devices_.read(base + j, t);
+      break;
+    }
   }
   return layout_.gain * std::max(g, 0.0);
 }
@@ -139,6 +160,20 @@ double SynapseDevices::expected_weight_step(std::size_t k, Polarity dir) const {
     return layout_.gain * std::abs(devices_.expected_step(d, Polarity::potentiate));
   }
   return layout_.gain * std::abs(devices_.expected_step(base + select_device(k), dir));
+}
+
+double SynapseDevices::weight_headroom(std::size_t k, Polarity dir) const {
+  const std::size_t base = device_index(k, 0);
+  // A differential pair moves either way by potentiating one of its two devices.
+  std::size_t d = base + select_device(k);
+  Polarity pol = dir;
+  if (layout_.layout == SynapseLayout::differential) {
+    d = dir == Polarity::potentiate ? base : base + 1;
+    pol = Polarity::potentiate;
+  }
+  const double g = devices_.programmed(d);
+  const double room = pol == Polarity::potentiate ? devices_.g_max_of(d) - g : g - devices_.parameters().g_min;
+  return layout_.gain * std::max(room, 0.0);
 }
 
 PulseOutcome SynapseDevices::pulse(std::size_t k, Polarity dir, std::uint32_t count, double t) {
@@ -244,7 +279,8 @@ void SynapseDevices::refresh(std::size_t k, double t) {
   // Keep the weight, free the headroom: reset both devices and write the
   // difference back onto one of them with program-and-verify.
   const std::size_t base = device_index(k, 0);
-  const double difference = devices_.read(base, t) - devices_.read(base + 1, t);
+  const std::array<double, 2> pair = devices_.read_pair(base, t);
+  const double difference = pair[0] - pair[1];
   devices_.reset(base, t);
   devices_.reset(base + 1, t);
   const std::size_t up = difference >= 0 ? base : base + 1;

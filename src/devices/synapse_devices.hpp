@@ -86,6 +86,16 @@ class SynapseDevices {
   double weight_programmed(std::size_t k) const;
   // Expected magnitude of the weight change of one pulse in direction `dir` (A).
   double expected_weight_step(std::size_t k, Polarity dir) const;
+  // Largest weight change (A, >= 0) that pulses in direction `dir` can still make:
+  // gain times the distance of the device they program to the bound it moves towards.
+  double weight_headroom(std::size_t k, Polarity dir) const;
+  // Hint that synapse k will be read or programmed soon: starts loading its device
+  // records (see DeviceArray::prefetch). Changes nothing.
+  [[gnu::always_inline]] void prefetch(std::size_t k) const {
+    const std::size_t base = device_index(k, 0);
+    devices_.prefetch(base);
+    devices_.prefetch(base + layout_.devices() - 1);
+  }
   // Applies `count` pulses that move the weight in direction `dir`.
   PulseOutcome pulse(std::size_t k, Polarity dir, std::uint32_t count, double t);
   // Continuous change, for ideal devices only.

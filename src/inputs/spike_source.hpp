@@ -21,6 +21,9 @@ class SpikeSource {
   virtual void emit(double t_end, std::vector<SourceSpike>& out) = 0;
   // One line for `nvsyn check`, e.g. "Poisson sources at 5 Hz".
   virtual std::string describe() const = 0;
+  // Expected number of spikes of all sources with time < t_end, from the start of
+  // the run (for the run-cost estimate; exact for given times).
+  virtual double expected_spikes(double t_end) const = 0;
 };
 
 }  // namespace nvsyn

@@ -1,5 +1,6 @@
 #include "inputs/timed_spikes.hpp"
 
+#include <algorithm>
 #include <fmt/format.h>
 
 namespace nvsyn {
@@ -16,6 +17,13 @@ TimedSpikes TimedSpikes::regular(std::uint32_t size, double rate_hz, double star
 void TimedSpikes::emit(double t_end, std::vector<SourceSpike>& out) {
   for (std::uint32_t i = 0; i < times_.size(); ++i)
     for (; next_[i] < times_[i].size() && times_[i][next_[i]] < t_end; ++next_[i]) out.push_back({times_[i][next_[i]], i});
+}
+
+double TimedSpikes::expected_spikes(double t_end) const {
+  double n = 0;
+  for (const auto& train : times_)
+    n += static_cast<double>(std::lower_bound(train.begin(), train.end(), t_end) - train.begin());
+  return n;
 }
 
 std::string TimedSpikes::describe() const {

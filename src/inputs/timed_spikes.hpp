@@ -18,6 +18,7 @@ class TimedSpikes final : public SpikeSource {
   std::uint32_t size() const override { return static_cast<std::uint32_t>(times_.size()); }
   void emit(double t_end, std::vector<SourceSpike>& out) override;
   std::string describe() const override;
+  double expected_spikes(double t_end) const override;
 
  private:
   std::vector<std::vector<double>> times_;

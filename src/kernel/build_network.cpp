@@ -4,10 +4,13 @@
 #include <limits>
 
 #include "core/error.hpp"
+#include "core/machine_memory.hpp"
+#include "kernel/memory_estimate.hpp"
+#include "kernel/run_cost.hpp"
 #include "kernel/simulation_state.hpp"
 #include "network/wiring.hpp"
 #include "devices/device_parameters.hpp"
-#include "inputs/poisson_group.hpp"
+#include "inputs/poisson_trains.hpp"
 #include "inputs/timed_spikes.hpp"
 #include "neurons/registry.hpp"
 #include "plasticity/learning_rule.hpp"
@@ -26,7 +29,7 @@ void build_populations(const Model& model, Simulation::State& s) {
     spec.table->mark_used("neuron");
     Population pop;
     pop.name = spec.name;
-    pop.neurons = make_neuron_group(spec.neuron_model, spec.size, *spec.table, s.seed, i);
+    pop.neurons = make_neuron_bank(spec.neuron_model, spec.size, *spec.table, s.seed, i);
     spec.table->reject_unknown_keys();
     s.network.populations.push_back(std::move(pop));
   }
@@ -35,10 +38,10 @@ void build_populations(const Model& model, Simulation::State& s) {
 void build_inputs(const Model& model, Simulation::State& s) {
   for (std::uint32_t i = 0; i < model.inputs.size(); ++i) {
     const InputSpec& spec = model.inputs[i];
-    InputGroup group;
+    InputChannel group;
     group.name = spec.name;
     if (spec.kind == InputKindSpec::poisson) {
-      group.spikes = std::make_unique<PoissonGroup>(spec.size, spec.rate, spec.start, spec.stop, s.seed, i);
+      group.spikes = std::make_unique<PoissonTrains>(spec.size, spec.rate, spec.start, spec.stop, s.seed, i);
     } else if (spec.kind == InputKindSpec::times) {
       group.spikes = std::make_unique<TimedSpikes>(spec.spike_times);
     } else if (spec.kind == InputKindSpec::regular) {
@@ -109,8 +112,8 @@ void index_incoming(Pathway& p, std::uint32_t n_post) {
 // and normalisation of each neuron's incoming weights.
 void build_learning(const PathwaySpec& spec, Pathway& p) {
   const ParamTable& t = *spec.plasticity;
-  p.learn_from = t.quantity_or("active_from", Dimension::time, 0.0);
-  p.learn_until = t.quantity_or("active_until", Dimension::time, p.learn_until);
+  p.learn_from = t.quantity_or("active_from", QuantityKind::time_point, 0.0);
+  p.learn_until = t.quantity_or("active_until", QuantityKind::time_point, p.learn_until);
   if (p.learn_from < 0) throw t.error("active_from", "must not be negative");
   if (!(p.learn_until > p.learn_from)) throw t.error("active_until", "must be later than active_from");
   if (t.has("rewards"))
@@ -118,16 +121,16 @@ void build_learning(const PathwaySpec& spec, Pathway& p) {
       const auto* pair = std::get_if<std::shared_ptr<ParamValue::Array>>(&item.value);
       if (!pair || (*pair)->size() != 2)
         throw UserError(item.where, "rewards", "each reward is a pair [\"<time>\", <size>], e.g. [\"1.5 s\", 1.0]");
-      const double at = ParamTable::to_quantity((**pair)[0], "rewards", Dimension::time);
-      const double size = ParamTable::to_quantity((**pair)[1], "rewards", Dimension::dimensionless);
+      const double at = t.to_quantity((**pair)[0], "rewards", QuantityKind::time_point);
+      const double size = t.to_quantity((**pair)[1], "rewards", QuantityKind::reward);
       if (at < 0) throw UserError(item.where, "rewards", "reward times must not be negative");
       p.rewards.emplace_back(at, size);
     }
   std::stable_sort(p.rewards.begin(), p.rewards.end(), [](const auto& a, const auto& b) { return a.first < b.first; });
-  p.normalise_interval = t.quantity_or("normalise_interval", Dimension::time, 0.0);
+  p.normalise_interval = t.quantity_or("normalise_interval", QuantityKind::interval, 0.0);
   if (p.normalise_interval < 0) throw t.error("normalise_interval", "must not be negative (0: off)");
   if (p.normalise_interval > 0) {
-    p.normalise_total = t.quantity("normalise_total", Dimension::current);
+    p.normalise_total = t.quantity("normalise_total", QuantityKind::weight_scale);
     if (!(p.normalise_total > 0)) throw t.error("normalise_total", "must be positive: the sum of |w| onto each neuron");
   }
   t.mark_used("normalise_total");
@@ -166,7 +169,7 @@ void build_pathway(const Model& model, std::uint32_t id, Simulation::State& s) {
     case WiringRule::random: edges = wire_random(c, spec.probability); break;
     case WiringRule::in_degree: edges = wire_in_degree(c, spec.in_degree); break;
     case WiringRule::list:
-      listed = read_connection_list(spec.list_file, c.n_pre, c.n_post);
+      listed = read_connection_list(spec.list_file, c.n_pre, c.n_post, model.ranges.get());
       if (!listed.has_weight && !spec.table->has("weight"))
         throw spec.table->error("file", "the list has no weight column, so the pathway needs 'weight'");
       if (!listed.has_delay && !spec.table->has("delay"))
@@ -280,6 +283,8 @@ void build_weight_recorders(const Model& model, Simulation::State& s) {
 }  // namespace
 
 Simulation Simulation::build(const Model& model, const BuildOptions& options) {
+  // Nothing is allocated before the model is known to fit into this machine.
+  check_memory(estimate_memory(model));
   auto s = std::make_unique<State>();
   s->seed = options.seed.value_or(model.simulation.seed);
   s->duration = options.duration.value_or(model.simulation.duration);
@@ -314,11 +319,13 @@ Simulation Simulation::build(const Model& model, const BuildOptions& options) {
   }
   s->outgoing.resize(groups);
   double d_min = std::numeric_limits<double>::infinity(), d_max = 0.0;
+  std::uint32_t shortest = 0;
   for (std::uint32_t id = 0; id < s->network.pathways.size(); ++id) {
     const Pathway& p = s->network.pathways[id];
     const std::size_t g = p.source.is_input ? s->network.populations.size() + p.source.index : p.source.index;
     s->outgoing[g].push_back(id);
     for (double d : p.synapses.delay) {
+      if (d < d_min) shortest = id;
       d_min = std::min(d_min, d);
       d_max = std::max(d_max, d);
     }
@@ -328,14 +335,29 @@ Simulation Simulation::build(const Model& model, const BuildOptions& options) {
   s->network.min_delay = d_min;
   s->network.max_delay = d_max;
   s->window = d_min;
-  s->ring.resize(static_cast<std::size_t>(std::ceil(d_max / d_min)) + 2);
+  // One bucket per window up to the longest delay: checked before allocating, since
+  // implausible delays (allowed on purpose) can ask for more than any machine holds.
+  const double buckets = std::ceil(d_max / d_min) + 2;
+  const double ring_bytes = buckets * sizeof(s->ring[0]);
+  const double physical = static_cast<double>(physical_memory_bytes());
+  if (physical > 0 && !(ring_bytes <= physical))
+    throw model.pathways[shortest].table->error(
+        model.pathways[shortest].wiring == WiringRule::list && !model.pathways[shortest].table->has("delay") ? "file"
+                                                                                                           : "delay",
+        fmt::format("the delays range from {} to {}: the kernel's event ring needs {:.3g} windows ({}), more than "
+                    "this machine's {} of physical memory",
+                    format_quantity(d_min, Dimension::time), format_quantity(d_max, Dimension::time), buckets,
+                    format_bytes(ring_bytes), format_bytes(physical)));
+  s->ring.resize(static_cast<std::size_t>(buckets));
   s->active.resize(s->network.populations.size());
   for (std::uint32_t p = 0; p < s->network.populations.size(); ++p) {
-    const NeuronGroup& g = *s->network.populations[p].neurons;
+    const NeuronBank& g = *s->network.populations[p].neurons;
     for (std::uint32_t n = 0; n < g.size(); ++n)
       if (g.may_fire_without_input(n)) s->active[p].push_back(n);
   }
-  return Simulation(std::move(s));
+  Simulation sim(std::move(s));
+  check_run_cost(estimate_run_cost(sim), sim, model, options);
+  return sim;
 }
 
 }  // namespace nvsyn

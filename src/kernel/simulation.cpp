@@ -7,6 +7,7 @@
 #include <tuple>
 
 #include "core/error.hpp"
+#include "core/run_failure.hpp"
 #include "kernel/simulation_state.hpp"
 
 namespace nvsyn {
@@ -17,13 +18,16 @@ Simulation& Simulation::operator=(Simulation&&) noexcept = default;
 Simulation::~Simulation() = default;
 
 const Network& Simulation::network() const { return state_->network; }
-const std::vector<InputGroup>& Simulation::inputs() const { return state_->inputs; }
+const std::vector<InputChannel>& Simulation::inputs() const { return state_->inputs; }
 const std::vector<TraceStream>& Simulation::traces() const { return state_->traces; }
 const std::vector<std::uint32_t>& Simulation::recorded_populations() const { return state_->recorded_populations; }
 const std::vector<WeightRecorder>& Simulation::weight_recorders() const { return state_->weight_recorders; }
 std::uint64_t Simulation::seed() const { return state_->seed; }
 double Simulation::duration() const { return state_->duration; }
 double Simulation::window() const { return state_->window; }
+double Simulation::time_reached() const {
+  return std::min(static_cast<double>(state_->next_window) * state_->window, state_->duration);
+}
 
 void Simulation::add_reward(const std::string& pathway, double t, double r) {
   State& s = *state_;
@@ -105,12 +109,26 @@ struct Scratch {
 UpdateOutcome apply_change(Simulation::State& s, Scratch& scratch, std::uint32_t path_id, std::uint64_t k, double dw,
                            double t) {
   Pathway& p = s.network.pathways[path_id];
+  // A non-finite request (a trace or rule parameter that overflowed) must not reach
+  // the weights, the devices or the ledgers.
+  if (!std::isfinite(dw)) [[unlikely]]
+    throw RunFailure(fmt::format("pathway '{}', synapse {}", p.name, k),
+                     fmt::format("{} (learning rule {})", not_finite("the requested weight change", dw, "A"),
+                                 p.rule ? p.rule->name() : "none"),
+                     t);
   UpdateOutcome out;
   if (p.devices) {
     out = p.policy->apply(*p.devices, k, dw, t);
+    // The realised change is the difference of the synapse's programmed weights
+    // before and after: non-finite if any conductance it reads became so.
+    if (!std::isfinite(out.realised)) [[unlikely]]
+      throw RunFailure(fmt::format("pathway '{}', synapse {}", p.name, k),
+                       not_finite("the device conductance change (realised weight change)", out.realised, "A"), t);
   } else {
     const double before = std::abs(p.synapses.weight[k]);
     const double after = std::clamp(before + dw, 0.0, p.rule ? p.rule->w_max() : before + dw);
+    if (!std::isfinite(after)) [[unlikely]]
+      throw RunFailure(fmt::format("pathway '{}', synapse {}", p.name, k), not_finite("the weight", after, "A"), t);
     p.synapses.weight[k] = p.sign() * after;
     out.requested = dw;
     out.realised = after - before;
@@ -244,10 +262,29 @@ void apply_global(Simulation::State& s, Scratch& scratch, RunObserver& observer,
   }
 }
 
+// The number of windows that cover [0, duration), each ending at (w + 1) * window and
+// the last at the duration. Never silently 0: a count that cannot be held exactly
+// (a tiny window against a huge or infinite duration) is refused. Model checks
+// refuse such runs before building (kernel/run_cost.hpp); this keeps the kernel
+// itself from wrapping a 64-bit count or converting an out-of-range double.
+std::uint64_t count_windows(double duration, double window) {
+  constexpr double kCountable = 9007199254740992.0;  // 2^53: every whole number below is a double
+  const double n = std::ceil(duration / window - 1e-12);
+  if (!(duration >= 0.0) || !(window > 0.0) || !(n <= kCountable))
+    throw UserError({}, "duration",
+                    fmt::format("a run of {} s in windows of {} s (the shortest delay) needs {:.3g} windows, more than "
+                                "the 2^53 the kernel can count; shorten the run or lengthen the shortest delay",
+                                duration, window, n));
+  return duration > 0.0 ? std::max<std::uint64_t>(1, static_cast<std::uint64_t>(n)) : 0;
+}
+
 }  // namespace
 
 RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop) {
   State& s = *state_;
+  if (s.unusable)
+    throw InternalError("Simulation::run: this simulation stopped inside a window (interrupted or failed) and cannot "
+                        "continue; build a new one");
   Network& net = s.network;
   const std::size_t n_pop = net.populations.size();
   const auto wall_start = std::chrono::steady_clock::now();
@@ -266,15 +303,21 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
   s.next_snapshot.resize(s.weight_recorders.size(), 0);
 
   const std::size_t ring_size = s.ring.size();
-  const auto window_count = static_cast<std::uint64_t>(std::ceil(s.duration / s.window - 1e-12));
+  const std::uint64_t window_count = count_windows(s.duration, s.window);
+  summary.time_reached = time_reached();
+  // Set when a stop request arrives while a window is being processed.
+  bool stopped_inside = false;
+  auto stop_requested = [stop] { return stop && stop->load(std::memory_order_relaxed); };
 
   for (; s.next_window < window_count; ++s.next_window) {
-    if (stop && stop->load(std::memory_order_relaxed)) {
+    if (stop_requested()) {
       summary.reason = EndReason::interrupted;
       break;
     }
     const std::uint64_t w = s.next_window;
-    const double t_end = std::min(static_cast<double>(w + 1) * s.window, s.duration);
+    // The last window ends exactly at the duration, whatever the rounding of w * window.
+    const double t_end =
+        w + 1 == window_count ? s.duration : std::min(static_cast<double>(w + 1) * s.window, s.duration);
     auto& bucket = s.ring[w % ring_size];
 
     // Injected-current changes and trace samples of this window join the bucket.
@@ -329,10 +372,10 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
     // The window is cut at the times of global events into segments; in each, every
     // neuron with input, or that may fire on its own, is processed in index order.
     scratch.spikes.clear();
-    for (std::size_t g = 0; g <= scratch.globals.size(); ++g) {
+    for (std::size_t g = 0; g <= scratch.globals.size() && !stopped_inside; ++g) {
       const double segment_end = g < scratch.globals.size() ? scratch.globals[g].time : t_end;
-      for (std::uint32_t p = 0; p < n_pop; ++p) {
-        NeuronGroup& group = *net.populations[p].neurons;
+      for (std::uint32_t p = 0; p < n_pop && !stopped_inside; ++p) {
+        NeuronBank& group = *net.populations[p].neurons;
         KernelHooks hooks(s, scratch, p);
         const std::vector<std::uint32_t>& active = s.active[p];
         std::vector<NeuronRun>& runs = scratch.runs[p];
@@ -343,6 +386,12 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
           const bool has_event = r < runs.size();
           const bool has_active = a < active.size();
           if (!has_event && !has_active) break;
+          // A window can hold long work (many spikes, each updating many synapses):
+          // a stop request is honoured between neurons, not only between windows.
+          if (stop_requested()) {
+            stopped_inside = true;
+            break;
+          }
           std::uint32_t n;
           if (has_event && (!has_active || runs[r].neuron <= active[a])) n = runs[r].neuron;
           else n = active[a];
@@ -369,10 +418,19 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
             ++r;
           }
           scratch.neuron_spikes.clear();
-          group.process(n, scratch.inputs, segment_end, scratch.neuron_spikes, scratch.samples[p], hooks);
+          try {
+            group.process(n, scratch.inputs, segment_end, scratch.neuron_spikes, scratch.samples[p], hooks);
+          } catch (const RunFailure& e) {
+            s.unusable = true;
+            // Failures of learning and devices already name their pathway; those of
+            // the neuron model get its population.
+            if (e.where().starts_with("pathway ")) throw;
+            throw e.within(fmt::format("population '{}'", net.populations[p].name));
+          }
           for (double t : scratch.neuron_spikes) scratch.spikes.push_back({t, s.group_offset[p] + n, p, n});
           if (group.may_fire_without_input(n)) scratch.next_active.push_back(n);
         }
+        if (stopped_inside) break;
         // Neurons with events left for later segments stay in the active set until then.
         for (const NeuronRun& run : runs)
           if (run.next < run.end) scratch.next_active.push_back(run.neuron);
@@ -381,7 +439,22 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
                                   scratch.next_active.end());
         s.active[p].swap(scratch.next_active);
       }
-      if (g < scratch.globals.size()) apply_global(s, scratch, observer, scratch.globals[g]);
+      if (!stopped_inside && g < scratch.globals.size()) {
+        try {
+          apply_global(s, scratch, observer, scratch.globals[g]);
+        } catch (const RunFailure&) {
+          s.unusable = true;
+          throw;
+        }
+      }
+    }
+    if (stopped_inside) {
+      // The window is abandoned: its spikes, samples and weight changes are not
+      // reported, and the run ends at the previous window (time_reached). Neurons already processed are ahead of
+      // that time, so this simulation cannot continue.
+      s.unusable = true;
+      summary.reason = EndReason::interrupted;
+      break;
     }
     bucket.clear();
 
@@ -456,6 +529,11 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
     observer.on_progress(t_end);
   }
   summary.wall_seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - wall_start).count();
+  // How a run ended is data: "complete" only when the whole duration was simulated.
+  if (summary.reason == EndReason::complete && summary.time_reached != s.duration)
+    throw InternalError(fmt::format("the event loop ended at model time {} s, before the duration {} s, without "
+                                    "being stopped ({} of {} windows)",
+                                    summary.time_reached, s.duration, s.next_window, window_count));
   return summary;
 }
 

@@ -25,9 +25,12 @@ namespace nvsyn {
 struct BuildOptions {
   std::optional<std::uint64_t> seed;      // overrides the model's seed
   std::optional<double> duration;         // overrides the model's duration (s)
+  // Accept a run beyond the cost limits (kernel/run_cost.hpp), as the model key
+  // [simulation] allow_large_run = true does.
+  bool allow_large_run = false;
 };
 
-struct InputGroup {
+struct InputChannel {
   std::string name;
   std::unique_ptr<SpikeSource> spikes;  // null for current inputs
 };
@@ -36,7 +39,7 @@ struct InputGroup {
 struct TraceStream {
   std::uint32_t population = 0;
   std::string variable;
-  std::uint32_t variable_index = 0;  // into NeuronGroup::variables()
+  std::uint32_t variable_index = 0;  // into NeuronBank::variables()
   Dimension dimension = Dimension::voltage;
   std::vector<std::uint32_t> neurons;
   double interval = 0.0;  // s
@@ -75,12 +78,22 @@ class Simulation {
   ~Simulation();
 
   // Runs from the current time to the model duration (or until *stop becomes true,
-  // checked once per window). Spikes of recorded populations and trace samples go
-  // to `observer`.
+  // checked between windows and between the neurons of a window, so that a stop is
+  // honoured within one neuron's work). Spikes of recorded populations and trace
+  // samples go to `observer`. Ends with reason `complete` only when the whole
+  // duration was simulated (an InternalError otherwise).
+  // A stop inside a window abandons that window: its spikes, trace samples and
+  // weight changes never reach the observer (weight samples and snapshots taken at
+  // times inside it already have), time_reached is the end of the previous window,
+  // and the simulation cannot be run further. Throws RunFailure (core/run_failure.hpp) when a state becomes NaN or
+  // infinite, naming population or pathway, neuron or synapse, variable and time;
+  // everything up to time_reached() has then been reported to the observer.
   RunSummary run(RunObserver& observer, const std::atomic<bool>* stop = nullptr);
+  // Model time up to which every window is complete (s).
+  double time_reached() const;
 
   const Network& network() const;
-  const std::vector<InputGroup>& inputs() const;
+  const std::vector<InputChannel>& inputs() const;
   const std::vector<TraceStream>& traces() const;
   const std::vector<std::uint32_t>& recorded_populations() const;  // population indices
   const std::vector<WeightRecorder>& weight_recorders() const;

@@ -21,7 +21,7 @@ struct PendingEvent {
 
 struct Simulation::State {
   Network network;
-  std::vector<InputGroup> inputs;
+  std::vector<InputChannel> inputs;
   CurrentSchedule currents;
   std::vector<TraceStream> traces;
   std::vector<std::uint32_t> recorded_populations;
@@ -42,6 +42,9 @@ struct Simulation::State {
 
   // Event loop state.
   std::uint64_t next_window = 0;
+  // True after a run stopped inside a window (a stop request or a RunFailure): the
+  // state is then partly ahead of next_window and must not be run further.
+  bool unusable = false;
   std::vector<std::vector<PendingEvent>> ring;  // one bucket per future window
   std::vector<std::vector<std::uint32_t>> active;  // per population, sorted
   std::vector<std::size_t> next_reward;            // per pathway: index into its rewards

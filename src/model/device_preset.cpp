@@ -25,12 +25,12 @@ std::vector<std::string> preset_folders() {
   return folders;
 }
 
-DevicePreset read_device_preset_file(const std::string& path) {
+DevicePreset read_device_preset_file(const std::string& path, std::shared_ptr<RangePolicy> ranges) {
   DevicePreset preset;
   preset.name = std::filesystem::path(path).stem().string();
   preset.file = path;
   preset.text = read_text_file(path, "device preset");
-  auto root = parse_toml_tables(preset.text, path);
+  auto root = parse_toml_tables(preset.text, path, ranges);
   root->mark_used("name");
   root->mark_used("description");
   root->mark_used("origin");
@@ -45,7 +45,7 @@ DevicePreset read_device_preset_file(const std::string& path) {
 }
 
 DevicePreset read_device_preset(const std::string& name_or_path, const std::string& relative_to_folder,
-                                const SourcePosition& where) {
+                                const SourcePosition& where, std::shared_ptr<RangePolicy> ranges) {
   namespace fs = std::filesystem;
   const bool is_path = name_or_path.find('/') != std::string::npos || name_or_path.ends_with(".toml");
   std::vector<std::string> tried;
@@ -53,13 +53,13 @@ DevicePreset read_device_preset(const std::string& name_or_path, const std::stri
   if (is_path) {
     fs::path p(name_or_path);
     if (p.is_relative()) p = fs::path(relative_to_folder) / p;
-    if (fs::exists(p, ec)) return read_device_preset_file(p.string());
+    if (fs::exists(p, ec)) return read_device_preset_file(p.string(), ranges);
     tried.push_back(p.string());
   } else {
     for (const auto& folder : preset_folders()) {
       const fs::path p = fs::path(folder) / (name_or_path + ".toml");
       if (fs::exists(p, ec)) {
-        DevicePreset preset = read_device_preset_file(p.string());
+        DevicePreset preset = read_device_preset_file(p.string(), ranges);
         preset.name = name_or_path;
         return preset;
       }

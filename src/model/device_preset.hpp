@@ -21,12 +21,13 @@ struct DevicePreset {
   std::shared_ptr<ParamTable> device;  // the [device] table
 };
 
-// `where`: the position of the reference, for "not found" errors.
+// `where`: the position of the reference, for "not found" errors. `ranges`: the
+// policy for implausible values of the model that names the preset (null: refuse).
 DevicePreset read_device_preset(const std::string& name_or_path, const std::string& relative_to_folder,
-                                const SourcePosition& where);
+                                const SourcePosition& where, std::shared_ptr<RangePolicy> ranges = nullptr);
 
 // Reads a preset file given by path (used by `nvsyn device`).
-DevicePreset read_device_preset_file(const std::string& path);
+DevicePreset read_device_preset_file(const std::string& path, std::shared_ptr<RangePolicy> ranges = nullptr);
 
 // Folders searched for bare preset names, in order.
 std::vector<std::string> preset_folders();

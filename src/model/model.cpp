@@ -14,6 +14,15 @@ const InputSpec* Model::find_input(const std::string& name) const {
   return nullptr;
 }
 
+std::vector<std::string> Model::input_files() const {
+  std::vector<std::string> files{file};
+  for (const PathwaySpec& p : pathways) {
+    if (!p.list_file.empty()) files.push_back(p.list_file);
+    if (!p.device_preset_file.empty()) files.push_back(p.device_preset_file);
+  }
+  return files;
+}
+
 std::string_view wiring_rule_name(WiringRule rule) {
   switch (rule) {
     case WiringRule::one_to_one: return "one_to_one";

@@ -18,6 +18,9 @@ namespace nvsyn {
 struct SimulationSpec {
   double duration = 1.0;  // s
   std::uint64_t seed = 1;
+  bool allow_implausible = false;  // values outside their kind's plausible range warn instead of failing
+  bool allow_large_run = false;    // runs beyond the cost limits (kernel/run_cost.hpp) are accepted
+  std::shared_ptr<const ParamTable> table;  // the [simulation] table, for messages
 };
 
 struct PopulationSpec {
@@ -71,6 +74,7 @@ struct PathwaySpec {
   std::shared_ptr<const ParamTable> synapse;  // layout, gain, policy keys
   std::shared_ptr<const ParamTable> device;   // preset with overrides applied
   std::string device_preset;                  // preset name ("" when given inline)
+  std::string device_preset_file;             // resolved path of the preset file ("" when inline)
   std::string device_preset_text;             // full text of the preset file
   // Learning ([pathway.<name>.plasticity]) and short-term plasticity of transmission
   // ([pathway.<name>.short_term]); null when absent. Read when the network is built.
@@ -112,9 +116,16 @@ struct Model {
   std::vector<InputSpec> inputs;            // in file order
   std::vector<PathwaySpec> pathways;        // in file order
   RecordSpec record;
+  // How values outside their plausible range were treated while reading, and the
+  // warnings about those accepted; shared with every ParamTable of the model, so
+  // values read when the network is built are checked the same way.
+  std::shared_ptr<RangePolicy> ranges;
 
   const PopulationSpec* find_population(const std::string& name) const;
   const InputSpec* find_input(const std::string& name) const;
+  // Every file the model is read or built from: the model file, then each pathway's
+  // connection list and device preset. Outputs must not overwrite any of them.
+  std::vector<std::string> input_files() const;
 };
 
 std::string_view wiring_rule_name(WiringRule rule);

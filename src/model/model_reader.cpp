@@ -5,9 +5,11 @@
 #include <filesystem>
 #include <fmt/format.h>
 #include <fstream>
+#include <limits>
 #include <set>
 #include <sstream>
 
+#include "core/input_file.hpp"
 #include "model/device_preset.hpp"
 #include "model/toml_tables.hpp"
 
@@ -43,17 +45,45 @@ std::vector<std::pair<std::string, std::shared_ptr<const ParamTable>>> named_tab
 std::uint32_t positive_count(const ParamTable& t, const std::string& key) {
   const std::int64_t n = t.integer(key);
   if (n <= 0) throw t.error(key, fmt::format("must be a positive whole number, got {}", n));
-  if (n > std::int64_t{1} << 31) throw t.error(key, fmt::format("{} is too large", n));
+  if (n > std::int64_t{1} << 31)
+    throw t.error(key, fmt::format("{} is too large: sizes and counts are stored in 32 bits and may be at most 2^31 = {}",
+                                   n, std::int64_t{1} << 31));
   return static_cast<std::uint32_t>(n);
 }
 
-std::vector<std::uint32_t> index_list(const ParamTable& t, const std::string& key) {
-  std::vector<std::uint32_t> out;
+// Neurons and sources get group-global ids in 32 bits: their total must fit.
+void check_total_size(const Model& model) {
+  std::uint64_t total = 0;
+  const ParamTable* largest = nullptr;
+  std::uint32_t largest_size = 0;
+  auto add = [&](std::uint32_t size, const ParamTable& t) {
+    total += size;
+    if (size >= largest_size) {
+      largest_size = size;
+      largest = &t;
+    }
+  };
+  for (const PopulationSpec& p : model.populations) add(p.size, *p.table);
+  for (const InputSpec& in : model.inputs)
+    if (in.emits_spikes()) add(in.size, *in.table);
+  if (total > std::numeric_limits<std::uint32_t>::max())
+    throw largest->error("size", fmt::format("the populations and inputs hold {} neurons and sources together, more than "
+                                             "the {} that nvsyn numbers in 32 bits",
+                                             total, std::numeric_limits<std::uint32_t>::max()));
+}
+
+// Whole numbers >= 0 of an array, each within what `Index` (the storage) holds:
+// an index that does not fit is an error at its position, never a silent wrap.
+template <typename Index>
+std::vector<Index> index_list(const ParamTable& t, const std::string& key, const char* what) {
+  std::vector<Index> out;
   for (const ParamValue& item : t.array(key)) {
     const auto* i = std::get_if<std::int64_t>(&item.value);
-    if (!i || *i < 0)
-      throw UserError(item.where, key, "expected a list of neuron indices (whole numbers >= 0)");
-    out.push_back(static_cast<std::uint32_t>(*i));
+    if (!i || *i < 0) throw UserError(item.where, key, fmt::format("expected a list of {} indices (whole numbers >= 0)", what));
+    if (static_cast<std::uint64_t>(*i) > std::numeric_limits<Index>::max())
+      throw UserError(item.where, key, fmt::format("{} index {} exceeds the largest that nvsyn stores ({})", what, *i,
+                                                   std::numeric_limits<Index>::max()));
+    out.push_back(static_cast<Index>(*i));
   }
   return out;
 }
@@ -74,7 +104,12 @@ SimulationSpec read_simulation(const ParamTable& root) {
     throw UserError(root.where(), "simulation",
                     "the model has no [simulation] table; add one with a 'duration' such as \"1 s\" (and optionally a 'seed')");
   auto t = root.table("simulation");
-  sim.duration = t->quantity("duration", Dimension::time);
+  sim.table = t;
+  // The overrides come first: they decide how the values below are checked.
+  sim.allow_implausible = t->flag_or("allow_implausible", false);
+  sim.allow_large_run = t->flag_or("allow_large_run", false);
+  if (sim.allow_implausible && t->range_policy()) t->range_policy()->allow_implausible(true);
+  sim.duration = t->quantity("duration", QuantityKind::duration);
   if (!(sim.duration > 0)) throw t->error("duration", "must be positive");
   const std::int64_t seed = t->integer_or("seed", 1);
   if (seed < 0) throw t->error("seed", "must be a whole number >= 0");
@@ -99,7 +134,7 @@ void read_populations(const ParamTable& root, Model& model) {
 std::vector<CurrentStep> read_steps(const ParamTable& t) {
   std::vector<CurrentStep> steps;
   if (t.has("amplitude")) {
-    steps.push_back({0.0, t.quantity("amplitude", Dimension::current)});
+    steps.push_back({0.0, t.quantity("amplitude", QuantityKind::current)});
     if (t.has("steps")) throw t.error("steps", "give either 'amplitude' or 'steps', not both");
     return steps;
   }
@@ -108,8 +143,8 @@ std::vector<CurrentStep> read_steps(const ParamTable& t) {
     const auto* pair = std::get_if<std::shared_ptr<ParamValue::Array>>(&item.value);
     if (!pair || (*pair)->size() != 2)
       throw UserError(item.where, "steps", "each step is a pair [\"<time>\", \"<current>\"], e.g. [\"100 ms\", \"0.5 nA\"]");
-    CurrentStep s{ParamTable::to_quantity((**pair)[0], "steps", Dimension::time),
-                  ParamTable::to_quantity((**pair)[1], "steps", Dimension::current)};
+    CurrentStep s{t.to_quantity((**pair)[0], "steps", QuantityKind::time_point),
+                  t.to_quantity((**pair)[1], "steps", QuantityKind::current)};
     if (s.time < 0) throw UserError(item.where, "steps", "step times must not be negative");
     if (!steps.empty() && s.time <= steps.back().time)
       throw UserError(item.where, "steps", fmt::format("step times must increase, but {} follows {}",
@@ -129,7 +164,7 @@ std::vector<std::vector<double>> read_spike_times(const ParamTable& t) {
   auto read_train = [&](const ParamValue::Array& list) {
     std::vector<double> train;
     for (const ParamValue& v : list) {
-      const double at = ParamTable::to_quantity(v, "times", Dimension::time);
+      const double at = t.to_quantity(v, "times", QuantityKind::time_point);
       if (at < 0) throw UserError(v.where, "times", "spike times must not be negative");
       if (!train.empty() && at <= train.back())
         throw UserError(v.where, "times", fmt::format("spike times of a source must increase: {} follows {}",
@@ -162,10 +197,10 @@ void read_inputs(const ParamTable& root, Model& model) {
     if (kind == "poisson") {
       in.kind = InputKindSpec::poisson;
       in.size = positive_count(*t, "size");
-      in.rate = t->quantity("rate", Dimension::frequency);
+      in.rate = t->quantity("rate", QuantityKind::rate);
       if (in.rate < 0) throw t->error("rate", "a rate cannot be negative");
-      in.start = t->quantity_or("start", Dimension::time, 0.0);
-      in.stop = t->quantity_or("stop", Dimension::time, -1.0);
+      in.start = t->quantity_or("start", QuantityKind::time_point, 0.0);
+      in.stop = t->quantity_or("stop", QuantityKind::time_point, -1.0);
       if (in.start < 0) throw t->error("start", "must not be negative");
       if (t->has("stop") && in.stop <= in.start) throw t->error("stop", "must be later than 'start'");
     } else if (kind == "current") {
@@ -174,7 +209,7 @@ void read_inputs(const ParamTable& root, Model& model) {
       const PopulationSpec* target = model.find_population(in.target);
       if (!target) throw t->error("target", fmt::format("no population named '{}'", in.target));
       if (t->has("neurons")) {
-        in.neurons = index_list(*t, "neurons");
+        in.neurons = index_list<std::uint32_t>(*t, "neurons", "neuron");
         for (auto n : in.neurons)
           if (n >= target->size)
             throw t->error("neurons", fmt::format("neuron {} is outside population '{}' of size {}", n, in.target, target->size));
@@ -187,9 +222,9 @@ void read_inputs(const ParamTable& root, Model& model) {
     } else if (kind == "regular") {
       in.kind = InputKindSpec::regular;
       in.size = positive_count(*t, "size");
-      in.rate = t->quantity("rate", Dimension::frequency);
+      in.rate = t->quantity("rate", QuantityKind::rate);
       if (!(in.rate > 0)) throw t->error("rate", "a regular train needs a positive rate");
-      in.start = t->quantity_or("start", Dimension::time, 0.0);
+      in.start = t->quantity_or("start", QuantityKind::time_point, 0.0);
       if (in.start < 0) throw t->error("start", "must not be negative");
       in.count = positive_count(*t, "count");
     } else {
@@ -223,9 +258,11 @@ void read_synapse(const ParamTable& pathway, PathwaySpec& p, const std::string& 
   if (synapse->has("preset")) {
     const ParamValue& ref = synapse->value("preset");
     const DevicePreset preset = read_device_preset(synapse->text("preset"),
-                                                   std::filesystem::path(file).parent_path().string(), ref.where);
+                                                   std::filesystem::path(file).parent_path().string(), ref.where,
+                                                   synapse->range_policy());
     base = preset.device;
     p.device_preset = preset.name;
+    p.device_preset_file = preset.file;
     p.device_preset_text = preset.text;
   }
   std::shared_ptr<const ParamTable> overrides;
@@ -266,7 +303,7 @@ void read_pathways(const ParamTable& root, Model& model, const std::string& file
       p.wiring = WiringRule::all_to_all;
     } else if (wiring == "random") {
       p.wiring = WiringRule::random;
-      p.probability = t->number("p");
+      p.probability = t->number("p", QuantityKind::fraction);
       if (!(p.probability >= 0.0 && p.probability <= 1.0))
         throw t->error("p", fmt::format("a connection probability must lie in [0, 1], got {}", p.probability));
     } else if (wiring == "in_degree") {
@@ -282,9 +319,11 @@ void read_pathways(const ParamTable& root, Model& model, const std::string& file
       std::filesystem::path resolved = std::filesystem::path(file).parent_path() / list;
       p.list_file = std::filesystem::path(list).is_absolute() ? list : resolved.string();
       std::error_code ec;
-      if (!std::filesystem::is_regular_file(p.list_file, ec))
+      if (!std::filesystem::exists(p.list_file, ec))
         throw t->error("file", fmt::format("no connection list at '{}'{}", p.list_file,
                                            std::filesystem::path(list).is_absolute() ? "" : " (relative paths start at the model file's folder)"));
+      if (auto problem = input_file_problem(p.list_file, "connection list"))
+        throw t->error("file", fmt::format("'{}' {}", p.list_file, *problem));
     } else {
       throw t->error("wiring", fmt::format("unknown wiring '{}'; expected one_to_one, all_to_all, random, in_degree or list", wiring));
     }
@@ -292,7 +331,7 @@ void read_pathways(const ParamTable& root, Model& model, const std::string& file
 
     // Weights are current jumps; their sign follows the receptor.
     if (p.wiring != WiringRule::list || t->has("weight")) {
-      p.weight = read_distribution(*t, "weight", Dimension::current);
+      p.weight = read_distribution(*t, "weight", QuantityKind::current);
       const bool excitatory = p.receptor == "excitatory";
       if (excitatory) {
         if (p.weight.max_value() < 0) throw t->error("weight", "an excitatory weight must not be negative");
@@ -303,7 +342,7 @@ void read_pathways(const ParamTable& root, Model& model, const std::string& file
       }
     }
     if (p.wiring != WiringRule::list || t->has("delay")) {
-      p.delay = read_distribution(*t, "delay", Dimension::time);
+      p.delay = read_distribution(*t, "delay", QuantityKind::delay);
       if (!(p.delay.min_value() > 0))
         throw t->error("delay", p.delay.is_constant()
                                     ? "delays must be positive (spikes need time to travel)"
@@ -350,17 +389,17 @@ void read_record(const ParamTable& root, Model& model) {
         if (v.is_string() && std::get<std::string>(v.value) == "all") {
           w.all_synapses = true;
         } else {
-          for (std::uint32_t k : index_list(*table, "synapses")) w.synapses.push_back(k);
+          w.synapses = index_list<std::uint64_t>(*table, "synapses", "synapse");
         }
       } else {
         w.all_synapses = true;
       }
-      w.interval = table->quantity_or("interval", Dimension::time, 0.0);
+      w.interval = table->quantity_or("interval", QuantityKind::interval, 0.0);
       if (w.interval < 0) throw table->error("interval", "must not be negative (0: no periodic samples)");
       w.every_change = table->flag_or("every_change", false);
       if (table->has("snapshots"))
         for (const ParamValue& item : table->array("snapshots")) {
-          const double at = ParamTable::to_quantity(item, "snapshots", Dimension::time);
+          const double at = table->to_quantity(item, "snapshots", QuantityKind::time_point);
           if (at < 0) throw UserError(item.where, "snapshots", "snapshot times must not be negative");
           w.snapshots.push_back(at);
         }
@@ -383,10 +422,10 @@ void read_record(const ParamTable& root, Model& model) {
       const PopulationSpec* pop = model.find_population(s.population);
       if (!pop) throw trace_table->error("population", fmt::format("no population named '{}'", s.population));
       s.variables = trace_table->has("variables") ? name_list(*trace_table, "variables") : std::vector<std::string>{"v"};
-      s.neurons = index_list(*trace_table, "neurons");
+      s.neurons = index_list<std::uint32_t>(*trace_table, "neurons", "neuron");
       for (auto n : s.neurons)
         if (n >= pop->size) throw trace_table->error("neurons", fmt::format("neuron {} is outside population '{}' of size {}", n, s.population, pop->size));
-      s.interval = trace_table->quantity("interval", Dimension::time);
+      s.interval = trace_table->quantity("interval", QuantityKind::interval);
       if (!(s.interval > 0)) throw trace_table->error("interval", "must be positive");
       trace_table->reject_unknown_keys();
       model.record.traces.push_back(std::move(s));
@@ -397,11 +436,15 @@ void read_record(const ParamTable& root, Model& model) {
 
 }  // namespace
 
-Model read_model_text(const std::string& text, const std::string& file_name) {
-  auto root = parse_toml_tables(text, file_name);
+Model read_model_text(const std::string& text, const std::string& file_name, const ModelReadOptions& options) {
+  auto ranges = std::make_shared<RangePolicy>(
+      "to go beyond it on purpose, set 'allow_implausible = true' in [simulation] or pass --allow-implausible",
+      options.allow_implausible);
+  auto root = parse_toml_tables(text, file_name, ranges);
   Model model;
   model.file = file_name;
   model.text = text;
+  model.ranges = ranges;
   root->mark_used("population");
   root->mark_used("input");
   root->mark_used("pathway");
@@ -409,14 +452,15 @@ Model read_model_text(const std::string& text, const std::string& file_name) {
   model.simulation = read_simulation(*root);
   read_populations(*root, model);
   read_inputs(*root, model);
+  check_total_size(model);
   read_pathways(*root, model, file_name);
   read_record(*root, model);
   root->reject_unknown_keys();
   return model;
 }
 
-Model read_model_file(const std::string& path) {
-  return read_model_text(read_text_file(path, "model file"), path);
+Model read_model_file(const std::string& path, const ModelReadOptions& options) {
+  return read_model_text(read_text_file(path, "model file"), path, options);
 }
 
 }  // namespace nvsyn

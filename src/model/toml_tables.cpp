@@ -1,12 +1,12 @@
 #include "model/toml_tables.hpp"
 
-#include <cerrno>
-#include <cstring>
-#include <filesystem>
 #include <fmt/format.h>
-#include <fstream>
 #include <sstream>
 #include <toml++/toml.h>
+
+#include "core/input_file.hpp"
+#include "core/machine_memory.hpp"
+#include "model/toml_prescan.hpp"
 
 namespace nvsyn {
 namespace {
@@ -37,35 +37,49 @@ std::string syntax_hint(const std::string& text, int line) {
   return open ? fmt::format("; is the closing {} missing on this line?", open) : "";
 }
 
-ParamValue convert(const toml::node& node, const std::string& key, const std::string& file,
-                   const std::string& context);
+// What every converted table shares: the file for positions and the model's policy
+// for implausible values.
+struct Conversion {
+  const std::string& file;
+  const std::shared_ptr<RangePolicy>& ranges;
+};
 
-std::shared_ptr<ParamTable> convert_table(const toml::table& table, const std::string& file,
-                                          const std::string& context) {
-  auto out = std::make_shared<ParamTable>(position_of(table.source(), file), context);
+ParamValue convert(const toml::node& node, const std::string& key, const Conversion& c, const std::string& context,
+                   int depth);
+
+std::shared_ptr<ParamTable> convert_table(const toml::table& table, const Conversion& c, const std::string& context,
+                                          int depth) {
+  auto out = std::make_shared<ParamTable>(position_of(table.source(), c.file), context);
+  out->set_range_policy(c.ranges);
   for (auto&& [key, node] : table) {
-    ParamValue v = convert(node, std::string(key.str()), file, context);
+    ParamValue v = convert(node, std::string(key.str()), c, context, depth + 1);
     // Point at the key: that is where a reader looks for "unknown key" and type errors.
-    v.where = position_of(key.source(), file);
-    if (v.where.line == 0) v.where = position_of(node.source(), file);
+    v.where = position_of(key.source(), c.file);
+    if (v.where.line == 0) v.where = position_of(node.source(), c.file);
     out->set(std::string(key.str()), std::move(v));
   }
   return out;
 }
 
-// `key` names the value in messages (array items carry their array's key).
-ParamValue convert(const toml::node& node, const std::string& key, const std::string& file,
-                   const std::string& context) {
+// `key` names the value in messages (array items carry their array's key). The
+// recursion is bounded: prescan_toml and toml++ keep documents shallow, and
+// kMaxTableDepth stops whatever still nests deeper with a message.
+ParamValue convert(const toml::node& node, const std::string& key, const Conversion& c, const std::string& context,
+                   int depth) {
   ParamValue v;
-  v.where = position_of(node.source(), file);
+  v.where = position_of(node.source(), c.file);
+  if (depth > kMaxTableDepth)
+    throw UserError(v.where, key,
+                    fmt::format("tables and arrays nest more than {} levels deep here; model files need a few levels",
+                                kMaxTableDepth));
   if (auto s = node.as_string()) v.value = s->get();
   else if (auto i = node.as_integer()) v.value = i->get();
   else if (auto d = node.as_floating_point()) v.value = d->get();
   else if (auto b = node.as_boolean()) v.value = b->get();
-  else if (auto t = node.as_table()) v.value = convert_table(*t, file, context);
+  else if (auto t = node.as_table()) v.value = convert_table(*t, c, context, depth);
   else if (auto a = node.as_array()) {
     auto items = std::make_shared<ParamValue::Array>();
-    for (const auto& item : *a) items->push_back(convert(item, key, file, context));
+    for (const auto& item : *a) items->push_back(convert(item, key, c, context, depth + 1));
     v.value = items;
   } else {
     throw UserError(v.where, key,
@@ -76,7 +90,9 @@ ParamValue convert(const toml::node& node, const std::string& key, const std::st
 
 }  // namespace
 
-std::shared_ptr<ParamTable> parse_toml_tables(const std::string& text, const std::string& file_name) {
+std::shared_ptr<ParamTable> parse_toml_tables(const std::string& text, const std::string& file_name,
+                                              std::shared_ptr<RangePolicy> ranges) {
+  prescan_toml(text, file_name, static_cast<double>(physical_memory_bytes()));
   toml::table doc;
   try {
     doc = toml::parse(text, file_name);
@@ -84,17 +100,9 @@ std::shared_ptr<ParamTable> parse_toml_tables(const std::string& text, const std
     const SourcePosition where = position_of(e.source(), file_name);
     throw UserError(where, "", fmt::format("TOML syntax: {}{}", e.description(), syntax_hint(text, where.line)));
   }
-  return convert_table(doc, file_name, "");
+  return convert_table(doc, Conversion{file_name, ranges}, "", 0);
 }
 
-std::string read_text_file(const std::string& path, const std::string& what) {
-  std::error_code ec;
-  if (std::filesystem::is_directory(path, ec)) throw UserError({path}, "", fmt::format("is a folder, not a {}", what));
-  std::ifstream in(path, std::ios::binary);
-  if (!in) throw UserError({path}, "", fmt::format("cannot read the {}: {}", what, std::strerror(errno)));
-  std::ostringstream text;
-  text << in.rdbuf();
-  return text.str();
-}
+std::string read_text_file(const std::string& path, const std::string& what) { return read_input_text(path, what); }
 
 }  // namespace nvsyn

@@ -7,6 +7,7 @@
 #include <string_view>
 
 #include "core/error.hpp"
+#include "core/plausible_range.hpp"
 #include "core/units.hpp"
 #include "model/toml_tables.hpp"
 
@@ -122,7 +123,13 @@ WeightMatrix read_weight_matrix(const std::string& path, const std::optional<std
     throw UserError({path, 1, 1}, "unit", "no unit for the weights: add a line '# unit: nA' or give --unit nA");
   }
   m.values.reserve(raw.size());
-  for (double v : raw) m.values.push_back(v * scale);
+  for (std::size_t i = 0; i < raw.size(); ++i) {
+    // Finite as written is not enough: 1e300 with "# unit: TA" overflows.
+    const double v = raw[i] * scale;
+    check_plausible(v, QuantityKind::current, fmt::format("{:g} {}", raw[i], m.unit), {path}, "",
+                    fmt::format("row {}, column {}", i / m.columns + 1, i % m.columns + 1), nullptr);
+    m.values.push_back(v);
+  }
   return m;
 }
 

@@ -10,7 +10,7 @@
 #include <vector>
 
 #include "devices/synapse_devices.hpp"
-#include "neurons/neuron_group.hpp"
+#include "neurons/neuron_bank.hpp"
 #include "plasticity/learning_rule.hpp"
 #include "plasticity/programming_policy.hpp"
 #include "plasticity/short_term_plasticity.hpp"
@@ -20,7 +20,7 @@ namespace nvsyn {
 
 struct Population {
   std::string name;
-  std::unique_ptr<NeuronGroup> neurons;
+  std::unique_ptr<NeuronBank> neurons;
   std::uint32_t size() const { return neurons->size(); }
 };
 

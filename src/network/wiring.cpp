@@ -1,14 +1,13 @@
 #include "network/wiring.hpp"
 
-#include <cerrno>
 #include <charconv>
 #include <cmath>
 #include <cstring>
 #include <fmt/format.h>
-#include <fstream>
 #include <sstream>
 
 #include "core/error.hpp"
+#include "core/input_file.hpp"
 #include "core/random_stream.hpp"
 #include "core/units.hpp"
 
@@ -119,9 +118,9 @@ double column_unit(const std::string& header, Dimension dim, const SourcePositio
 
 }  // namespace
 
-ConnectionList read_connection_list(const std::string& path, std::uint32_t n_pre, std::uint32_t n_post) {
-  std::ifstream in(path);
-  if (!in) throw UserError({path}, "", fmt::format("cannot read the connection list: {}", std::strerror(errno)));
+ConnectionList read_connection_list(const std::string& path, std::uint32_t n_pre, std::uint32_t n_post,
+                                    RangePolicy* ranges) {
+  std::istringstream in(read_input_text(path, "connection list"));
   ConnectionList list;
   std::string line;
   int row = 0;
@@ -171,9 +170,19 @@ ConnectionList read_connection_list(const std::string& path, std::uint32_t n_pre
     };
     ListedConnection c;
     c.edge = {index(0, n_pre, "pre"), index(1, n_post, "post")};
-    if (weight_col >= 0) c.weight = number(weight_col, "weight") * weight_unit;
+    // Checked like model values; the message is only formatted for a value that fails.
+    auto plausible = [&](double v, QuantityKind kind, const char* name) {
+      if (!is_plausible(v, kind))
+        check_plausible(v, kind, format_quantity(v, plausible_range(kind).dimension), where, name,
+                        fmt::format("row {}", row), ranges);
+    };
+    if (weight_col >= 0) {
+      c.weight = number(weight_col, "weight") * weight_unit;
+      plausible(c.weight, QuantityKind::current, "weight");
+    }
     if (delay_col >= 0) {
       c.delay = number(delay_col, "delay") * delay_unit;
+      plausible(c.delay, QuantityKind::delay, "delay");
       if (!(c.delay > 0)) throw UserError(where, "delay", "delays must be positive");
     }
     list.rows.push_back(c);

@@ -6,6 +6,7 @@
 #include <string>
 #include <vector>
 
+#include "core/plausible_range.hpp"
 #include "network/synapse_store.hpp"
 
 namespace nvsyn {
@@ -31,7 +32,9 @@ std::vector<Edge> wire_in_degree(const WiringContext& c, std::uint32_t k);
 // "weight [<unit>]" and "delay [<unit>]" columns, e.g.
 //   pre,post,weight [nA],delay [ms]
 //   0,3,0.25,1.5
-// Errors name the file and row.
+// Errors name the file and row. Weights and delays are checked like those of model
+// files (finite, within the plausible range of a current and a delay, as `ranges`
+// says: core/plausible_range.hpp).
 struct ListedConnection {
   Edge edge;
   double weight = 0.0;  // A, when has_weight
@@ -42,6 +45,7 @@ struct ConnectionList {
   bool has_weight = false;
   bool has_delay = false;
 };
-ConnectionList read_connection_list(const std::string& path, std::uint32_t n_pre, std::uint32_t n_post);
+ConnectionList read_connection_list(const std::string& path, std::uint32_t n_pre, std::uint32_t n_post,
+                                    RangePolicy* ranges = nullptr);
 
 }  // namespace nvsyn

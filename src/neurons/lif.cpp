@@ -6,25 +6,38 @@
 #include <fmt/format.h>
 
 #include "core/error.hpp"
+#include "core/run_failure.hpp"
 
 namespace nvsyn {
+namespace {
+
+// ln(a / b) for positive a, b: accurate when a and b are close (log1p of their
+// exactly computed relative difference) and free of overflow when they are far apart.
+double log_ratio(double a, double b) {
+  const double ratio = a / b;
+  if (ratio > 0.5 && ratio < 2.0) return std::log1p((a - b) / b);
+  if (ratio > 0.0 && std::isfinite(ratio)) return std::log(ratio);
+  return std::log(a) - std::log(b);
+}
+
+}  // namespace
 
 LifParameters LifParameters::from_table(const ParamTable& t) {
   LifParameters p;
-  p.tau_m = t.quantity_or("tau_m", Dimension::time, p.tau_m);
-  p.capacitance = t.quantity_or("capacitance", Dimension::capacitance, p.capacitance);
-  p.v_rest = t.quantity_or("v_rest", Dimension::voltage, p.v_rest);
-  p.v_threshold = t.quantity_or("v_threshold", Dimension::voltage, p.v_threshold);
-  p.v_reset = t.quantity_or("v_reset", Dimension::voltage, p.v_rest);
-  p.refractory = t.quantity_or("refractory", Dimension::time, p.refractory);
-  p.tau_exc = t.quantity_or("tau_exc", Dimension::time, p.tau_exc);
-  p.tau_inh = t.quantity_or("tau_inh", Dimension::time, p.tau_inh);
-  p.bias = t.quantity_or("bias", Dimension::current, p.bias);
-  p.threshold_step = t.quantity_or("threshold_step", Dimension::voltage, 0.0);
-  p.tau_threshold = t.quantity_or("tau_threshold", Dimension::time, p.tau_threshold);
+  p.tau_m = t.quantity_or("tau_m", QuantityKind::time_constant, p.tau_m);
+  p.capacitance = t.quantity_or("capacitance", QuantityKind::capacitance, p.capacitance);
+  p.v_rest = t.quantity_or("v_rest", QuantityKind::voltage, p.v_rest);
+  p.v_threshold = t.quantity_or("v_threshold", QuantityKind::voltage, p.v_threshold);
+  p.v_reset = t.quantity_or("v_reset", QuantityKind::voltage, p.v_rest);
+  p.refractory = t.quantity_or("refractory", QuantityKind::time_constant, p.refractory);
+  p.tau_exc = t.quantity_or("tau_exc", QuantityKind::time_constant, p.tau_exc);
+  p.tau_inh = t.quantity_or("tau_inh", QuantityKind::time_constant, p.tau_inh);
+  p.bias = t.quantity_or("bias", QuantityKind::current, p.bias);
+  p.threshold_step = t.quantity_or("threshold_step", QuantityKind::voltage, 0.0);
+  p.tau_threshold = t.quantity_or("tau_threshold", QuantityKind::time_constant, p.tau_threshold);
   if (p.threshold_step < 0) throw t.error("threshold_step", "must not be negative");
   if (!(p.tau_threshold > 0)) throw t.error("tau_threshold", "must be positive");
-  p.v_init = t.has("v_init") ? read_distribution(t, "v_init", Dimension::voltage)
+  p.v_init = t.has("v_init") ? read_distribution(t, "v_init", QuantityKind::voltage)
                              : Distribution::constant(p.v_rest);
 
   auto positive = [&](const char* key, double v, Dimension dim) {
@@ -51,15 +64,21 @@ LifTrajectory::LifTrajectory(const LifParameters& p, const LifState& start, doub
     : p_(p), start_(start), drive_(drive), theta_(theta), v_inf_(p.v_rest + p.resistance() * drive) {
   const double taus[2] = {p.tau_exc, p.tau_inh};
   for (int c = 0; c < 2; ++c) {
-    decay_rate_[c] = 1.0 / taus[c] - 1.0 / p.tau_m;
-    peak_s_[c] = decay_rate_[c] == 0.0 ? p.tau_m : std::log(p.tau_m / taus[c]) / decay_rate_[c];
+    const double d = 1.0 / taus[c] - 1.0 / p.tau_m;
+    gap_[c] = std::abs(d);
+    slow_tau_[c] = d > 0 ? p.tau_m : taus[c];
+    peak_s_[c] = d == 0.0 ? p.tau_m : log_ratio(p.tau_m, taus[c]) / d;
   }
 }
 
 double LifTrajectory::kernel(int c, double s) const {
-  const double d = decay_rate_[c];
-  const double shape = d == 0.0 ? s : -std::expm1(-s * d) / d;
-  return std::exp(-s / p_.tau_m) * shape;
+  // K = e^{-s/tau_slow} (1 - e^{-s |d|}) / |d|: the first factor is at most 1 and
+  // the second lies in [0, s], so no intermediate overflows for any s >= 0.
+  // (Written as e^{-s/tau_m} (1 - e^{-s d}) / d, the second factor grows like
+  // e^{s |d|} when tau_m < tau_x and overflows after s |d| > 709, giving inf * 0.)
+  const double gap = gap_[c];
+  const double shape = gap == 0.0 ? s : -std::expm1(-s * gap) / gap;
+  return std::exp(-s / slow_tau_[c]) * shape;
 }
 
 double LifTrajectory::v_at(double s) const {
@@ -106,7 +125,10 @@ std::optional<double> LifTrajectory::first_crossing(double threshold, double hor
   stack[top++] = {0.0, horizon};
   while (top > 0) {
     const Interval iv = stack[--top];
-    if (v_upper_bound(iv.a, iv.b) < threshold) continue;
+    // Written so that a NaN bound also drops the interval: a non-finite state must
+    // not make the search split intervals down to kGraze everywhere (it is reported
+    // by LifBank::check_finite instead).
+    if (!(v_upper_bound(iv.a, iv.b) >= threshold)) continue;
     const double width = iv.b - iv.a;
     if (margin_at(iv.b) >= threshold && width <= kIsolate) {
       // Refine the bracket (V(a) < threshold <= V(b)) by bisection to full precision.
@@ -129,7 +151,7 @@ std::optional<double> LifTrajectory::first_crossing(double threshold, double hor
 
 // ---------------------------------------------------------------- group
 
-LifGroup::LifGroup(std::uint32_t size, LifParameters params, std::uint64_t seed, std::uint32_t population_id)
+LifBank::LifBank(std::uint32_t size, LifParameters params, std::uint64_t seed, std::uint32_t population_id)
     : p_(std::move(params)),
       v_(size),
       i_exc_(size, 0.0),
@@ -147,7 +169,7 @@ LifGroup::LifGroup(std::uint32_t size, LifParameters params, std::uint64_t seed,
   }
 }
 
-void LifGroup::advance(std::uint32_t n, double t) {
+void LifBank::advance(std::uint32_t n, double t) {
   double s = t - t_last_[n];
   if (!(s > 0)) return;
   if (theta_[n] != 0.0) theta_[n] *= std::exp(-s / p_.tau_threshold);
@@ -172,7 +194,7 @@ void LifGroup::advance(std::uint32_t n, double t) {
   t_last_[n] = t;
 }
 
-double LifGroup::cheap_upper_bound(std::uint32_t n) const {
+double LifBank::cheap_upper_bound(std::uint32_t n) const {
   // V(s) <= max(V_0, V_inf) + sum over positive currents of (I_x / C) max K_x:
   // the drive term moves monotonically from V_0 to V_inf, K_x >= 0 peaks at kernel_peak_,
   // and negative currents only lower V. During refractoriness V_0 is v_reset.
@@ -182,9 +204,41 @@ double LifGroup::cheap_upper_bound(std::uint32_t n) const {
          (std::max(i_exc_[n], 0.0) * kernel_peak_[0] + std::max(i_inh_[n], 0.0) * kernel_peak_[1]) / p_.capacitance;
 }
 
-void LifGroup::fire_until(std::uint32_t n, double t_limit, std::vector<double>& spikes, SpikeHooks& hooks) {
+void LifBank::check_finite(std::uint32_t n) const {
+  // A NaN or infinity in any term makes the sum non-finite, so one test per neuron
+  // visit covers all five variables (the units do not matter for this test). A
+  // non-finite sum of finite values (each near 1e308) is sorted out by the slow path.
+  if (std::isfinite(v_[n] + i_exc_[n] + i_inh_[n] + theta_[n] + i_injected_[n])) [[likely]] return;
+  report_non_finite(n);
+}
+
+void LifBank::report_non_finite(std::uint32_t n) const {
+  const std::string where = fmt::format("neuron {}", n);
+  if (!std::isfinite(v_[n])) throw RunFailure(where, not_finite("membrane potential v", v_[n], "V"), t_last_[n]);
+  if (!std::isfinite(i_exc_[n]))
+    throw RunFailure(where, not_finite("excitatory current i_exc", i_exc_[n], "A"), t_last_[n]);
+  if (!std::isfinite(i_inh_[n]))
+    throw RunFailure(where, not_finite("inhibitory current i_inh", i_inh_[n], "A"), t_last_[n]);
+  if (!std::isfinite(theta_[n]))
+    throw RunFailure(where, not_finite("adaptive threshold theta", theta_[n], "V"), t_last_[n]);
+  if (!std::isfinite(i_injected_[n]))
+    throw RunFailure(where, not_finite("injected current", i_injected_[n], "A"), t_last_[n]);
+}
+
+void LifBank::fire_until(std::uint32_t n, double t_limit, std::vector<double>& spikes, SpikeHooks& hooks) {
   for (;;) {
-    if (cheap_upper_bound(n) < p_.v_threshold) return;
+    const double bound = cheap_upper_bound(n);
+    if (bound < p_.v_threshold) return;
+    if (!std::isfinite(bound)) {
+      // A non-finite state, or currents so large that V leaves the range of a double:
+      // either way the crossing search below would work on NaN and never settle.
+      check_finite(n);
+      throw RunFailure(fmt::format("neuron {}", n),
+                       fmt::format("the membrane potential overflows: the synaptic currents i_exc = {} A, i_inh = {} A "
+                                   "drive it beyond the range of a double",
+                                   i_exc_[n], i_inh_[n]),
+                       t_last_[n]);
+    }
     if (t_last_[n] < refractory_until_[n]) {
       if (refractory_until_[n] >= t_limit) return;
       advance(n, refractory_until_[n]);
@@ -196,7 +250,8 @@ void LifGroup::fire_until(std::uint32_t n, double t_limit, std::vector<double>& 
     if (!crossing) return;
     const double t_spike = t_last_[n] + *crossing;
     if (!std::isfinite(t_spike))
-      throw InternalError(fmt::format("lif neuron {}: non-finite spike time after t = {} s", n, t_last_[n]));
+      throw RunFailure(fmt::format("neuron {}", n), fmt::format("the spike time {} s is not finite", t_spike),
+                       t_last_[n]);
     const LifState at = traj.state_at(*crossing);
     spikes.push_back(t_spike);
     v_[n] = p_.v_reset;
@@ -210,7 +265,7 @@ void LifGroup::fire_until(std::uint32_t n, double t_limit, std::vector<double>& 
   }
 }
 
-void LifGroup::process(std::uint32_t n, std::span<const NeuronInput> inputs, double t_end,
+void LifBank::process(std::uint32_t n, std::span<const NeuronInput> inputs, double t_end,
                        std::vector<double>& spikes, std::span<double> samples, SpikeHooks& hooks) {
   for (const NeuronInput& in : inputs) {
     fire_until(n, in.time, spikes, hooks);
@@ -231,16 +286,15 @@ void LifGroup::process(std::uint32_t n, std::span<const NeuronInput> inputs, dou
     }
   }
   fire_until(n, t_end, spikes, hooks);
-  if (!std::isfinite(v_[n]))
-    throw InternalError(fmt::format("lif neuron {}: membrane potential is not finite at t = {} s", n, t_last_[n]));
+  check_finite(n);
 }
 
-bool LifGroup::may_fire_without_input(std::uint32_t n) const {
+bool LifBank::may_fire_without_input(std::uint32_t n) const {
   // Upper bound of V over [t_last, infinity) without further input.
   return cheap_upper_bound(n) >= p_.v_threshold;
 }
 
-std::span<const TraceVariable> LifGroup::variables() const {
+std::span<const TraceVariable> LifBank::variables() const {
   static constexpr std::array<TraceVariable, 4> kVariables{{
       {"v", Dimension::voltage},
       {"i_exc", Dimension::current},

@@ -10,10 +10,17 @@
 // Between events the state is advanced with the exact solution (Rotter & Diesmann,
 // Biol. Cybern. 81:381, 1999): with s the time since the last update,
 //   V(s) = v_rest + R I_0 (1 - e^{-s/tau_m}) + (V_0 - v_rest) e^{-s/tau_m}
-//          + sum_x (I_x / C) K_x(s),   K_x(s) = e^{-s/tau_m} (1 - e^{-s d_x}) / d_x,
-//   d_x = 1/tau_x - 1/tau_m  (K_x(s) = s e^{-s/tau_m} in the limit d_x -> 0),
-// written with expm1 so that tau_x == tau_m needs no special case.
+//          + sum_x (I_x / C) K_x(s),
+//   K_x(s) = (e^{-s/tau_x} - e^{-s/tau_m}) / (1/tau_m - 1/tau_x)
+//          = e^{-s/tau_slow} (1 - e^{-s |d_x|}) / |d_x|,   d_x = 1/tau_x - 1/tau_m,
+// where tau_slow is the longer of tau_m and tau_x (K_x(s) = s e^{-s/tau_m} when
+// d_x = 0). The second form is evaluated, with expm1 for 1 - e^{-x}: both factors
+// are bounded (by 1 and by s), so it cannot overflow for any pair of time constants
+// and any time since the last update, and it stays accurate when tau_x and tau_m are
+// nearly equal. (Factoring out e^{-s/tau_m} instead overflows when tau_m < tau_x and
+// the neuron is idle for s |d_x| > 709.)
 // R = tau_m / C; I_0 = I_bias + I_injected is constant between events.
+// Time constants must be normal doubles (above about 1e-300 s) so that 1/tau is finite.
 //
 // Threshold crossings are located by interval subdivision with a rigorous upper
 // bound of V on each interval (the constant-drive term is monotone, each K_x is
@@ -35,7 +42,7 @@
 
 #include "core/distribution.hpp"
 #include "core/param_table.hpp"
-#include "neurons/neuron_group.hpp"
+#include "neurons/neuron_bank.hpp"
 
 namespace nvsyn {
 
@@ -85,13 +92,14 @@ class LifTrajectory {
   double drive_;          // I_0, A
   double theta_;          // V, adaptive threshold at s = 0
   double v_inf_;          // v_rest + R I_0
-  double decay_rate_[2];  // d_x = 1/tau_x - 1/tau_m
-  double peak_s_[2];      // peak time of K_x
+  double gap_[2];         // 1/s, |d_x| = |1/tau_x - 1/tau_m|
+  double slow_tau_[2];    // s, the longer of tau_m and tau_x
+  double peak_s_[2];      // s, peak time of K_x
 };
 
-class LifGroup final : public NeuronGroup {
+class LifBank final : public NeuronBank {
  public:
-  LifGroup(std::uint32_t size, LifParameters params, std::uint64_t seed, std::uint32_t population_id);
+  LifBank(std::uint32_t size, LifParameters params, std::uint64_t seed, std::uint32_t population_id);
 
   std::string_view model_name() const override { return "lif"; }
   std::uint32_t size() const override { return static_cast<std::uint32_t>(v_.size()); }
@@ -109,6 +117,9 @@ class LifGroup final : public NeuronGroup {
   void fire_until(std::uint32_t n, double t_limit, std::vector<double>& spikes, SpikeHooks& hooks);
   // Upper bound of V over all future times without further input; costs no exp().
   double cheap_upper_bound(std::uint32_t n) const;
+  // Throws RunFailure naming the variable if any state of neuron n is NaN or infinite.
+  void check_finite(std::uint32_t n) const;
+  [[gnu::cold, gnu::noinline]] void report_non_finite(std::uint32_t n) const;
 
   LifParameters p_;
   double kernel_peak_[2];  // s, maxima of K_exc and K_inh

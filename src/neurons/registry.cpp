@@ -8,7 +8,7 @@
 namespace nvsyn {
 namespace {
 
-using Factory = std::function<std::unique_ptr<NeuronGroup>(std::uint32_t, const ParamTable&, std::uint64_t, std::uint32_t)>;
+using Factory = std::function<std::unique_ptr<NeuronBank>(std::uint32_t, const ParamTable&, std::uint64_t, std::uint32_t)>;
 
 struct Entry {
   const char* name;
@@ -19,7 +19,7 @@ const std::vector<Entry>& registry() {
   static const std::vector<Entry> entries = {
       {"lif",
        [](std::uint32_t size, const ParamTable& t, std::uint64_t seed, std::uint32_t id) {
-         return std::make_unique<LifGroup>(size, LifParameters::from_table(t), seed, id);
+         return std::make_unique<LifBank>(size, LifParameters::from_table(t), seed, id);
        }},
   };
   return entries;
@@ -27,7 +27,7 @@ const std::vector<Entry>& registry() {
 
 }  // namespace
 
-std::unique_ptr<NeuronGroup> make_neuron_group(const std::string& name, std::uint32_t size,
+std::unique_ptr<NeuronBank> make_neuron_bank(const std::string& name, std::uint32_t size,
                                                const ParamTable& params, std::uint64_t seed,
                                                std::uint32_t population_id) {
   for (const auto& e : registry())

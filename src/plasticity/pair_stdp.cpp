@@ -6,11 +6,11 @@ namespace nvsyn {
 
 PairStdpParameters PairStdpParameters::from_table(const ParamTable& t) {
   PairStdpParameters p;
-  p.a_plus = t.number_or("a_plus", p.a_plus);
-  p.a_minus = t.number_or("a_minus", p.a_minus);
-  p.tau_plus = t.quantity_or("tau_plus", Dimension::time, p.tau_plus);
-  p.tau_minus = t.quantity_or("tau_minus", Dimension::time, p.tau_minus);
-  p.w_max = t.quantity("w_max", Dimension::current);
+  p.a_plus = t.number_or("a_plus", QuantityKind::learning_amplitude, p.a_plus);
+  p.a_minus = t.number_or("a_minus", QuantityKind::learning_amplitude, p.a_minus);
+  p.tau_plus = t.quantity_or("tau_plus", QuantityKind::time_constant, p.tau_plus);
+  p.tau_minus = t.quantity_or("tau_minus", QuantityKind::time_constant, p.tau_minus);
+  p.w_max = t.quantity("w_max", QuantityKind::weight_scale);
   const std::string form = t.text_or("form", "additive");
   if (form == "additive") p.multiplicative = false;
   else if (form == "multiplicative") p.multiplicative = true;

@@ -10,6 +10,10 @@
 //               whole steps are programmed when it exceeds one step.
 // `max_pulses` caps the pulses of one update (0: no cap). The step is the device's
 // expected step at its present state, so state-dependent devices are handled.
+// |dw| is first cut to the weight headroom of the device being programmed (what it
+// can still move in that direction): near a soft bound the step shrinks towards zero,
+// and dividing a larger request by it would ask for billions of pulses. Requests that
+// fit the headroom are untouched; the ledger keeps the full request.
 // Ideal (continuous) devices take every request exactly.
 //
 // Every update reports requested and realised change; per-synapse totals and
@@ -59,6 +63,13 @@ class ProgrammingPolicy {
                     std::uint32_t pathway_id);
 
   UpdateOutcome apply(SynapseDevices& synapses, std::size_t k, double dw, double t);
+  // Hint that synapse k will be updated soon: starts loading its ledger entries, so a
+  // caller walking scattered synapses (all inputs of a neuron that spikes) can overlap
+  // their memory latencies. Changes nothing. (Always inlined, see DeviceArray::prefetch.)
+  [[gnu::always_inline]] void prefetch(std::size_t k) const {
+    __builtin_prefetch(&ledger_.requested[k]);
+    __builtin_prefetch(&ledger_.updates[k]);
+  }
   const UpdateLedger& ledger() const { return ledger_; }
   const PolicyParameters& parameters() const { return p_; }
   double accumulator(std::size_t k) const { return accumulator_.empty() ? 0.0 : accumulator_[k]; }
@@ -69,6 +80,11 @@ class ProgrammingPolicy {
 
  private:
   void record(std::size_t k, const UpdateOutcome& o) { ledger_.add(k, o); }
+  // The stochastic-rounding uniform of synapse k's next update.
+  double rounding_draw(std::size_t k) const;
+  // True when a request of x_request steps (|request| / step) certainly gives no pulse;
+  // u is the update's rounding draw (stochastic rounding only).
+  bool rounds_to_zero(double x_request, double u) const;
 
   PolicyParameters p_;
   std::uint64_t seed_;

@@ -5,8 +5,8 @@ namespace nvsyn {
 RewardStdpParameters RewardStdpParameters::from_table(const ParamTable& t) {
   RewardStdpParameters p;
   p.pair = PairStdpParameters::from_table(t);
-  p.tau_eligibility = t.quantity_or("tau_eligibility", Dimension::time, p.tau_eligibility);
-  p.learning_rate = t.number_or("learning_rate", p.learning_rate);
+  p.tau_eligibility = t.quantity_or("tau_eligibility", QuantityKind::time_constant, p.tau_eligibility);
+  p.learning_rate = t.number_or("learning_rate", QuantityKind::learning_rate, p.learning_rate);
   if (!(p.tau_eligibility > 0)) throw t.error("tau_eligibility", "must be positive");
   if (!(p.learning_rate > 0)) throw t.error("learning_rate", "must be positive");
   return p;

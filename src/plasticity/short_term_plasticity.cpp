@@ -6,9 +6,9 @@ namespace nvsyn {
 
 ShortTermPlasticityParameters ShortTermPlasticityParameters::from_table(const ParamTable& t) {
   ShortTermPlasticityParameters p;
-  p.u = t.number_or("u", p.u);
-  p.tau_rec = t.quantity_or("tau_rec", Dimension::time, p.tau_rec);
-  p.tau_facil = t.quantity_or("tau_facil", Dimension::time, p.tau_facil);
+  p.u = t.number_or("u", QuantityKind::fraction, p.u);
+  p.tau_rec = t.quantity_or("tau_rec", QuantityKind::time_constant, p.tau_rec);
+  p.tau_facil = t.quantity_or("tau_facil", QuantityKind::time_constant, p.tau_facil);
   if (!(p.u > 0 && p.u <= 1)) throw t.error("u", "the utilisation U must lie in (0, 1]");
   if (!(p.tau_rec > 0)) throw t.error("tau_rec", "must be positive");
   if (p.tau_facil < 0) throw t.error("tau_facil", "must not be negative (0 turns facilitation off)");

@@ -5,9 +5,9 @@ namespace nvsyn {
 ShortTermStdpParameters ShortTermStdpParameters::from_table(const ParamTable& t) {
   ShortTermStdpParameters p;
   p.pair = PairStdpParameters::from_table(t);
-  p.st_a_plus = t.number_or("st_a_plus", p.st_a_plus);
-  p.st_a_minus = t.number_or("st_a_minus", p.st_a_minus);
-  p.tau_short = t.quantity_or("tau_short", Dimension::time, p.tau_short);
+  p.st_a_plus = t.number_or("st_a_plus", QuantityKind::learning_amplitude, p.st_a_plus);
+  p.st_a_minus = t.number_or("st_a_minus", QuantityKind::learning_amplitude, p.st_a_minus);
+  p.tau_short = t.quantity_or("tau_short", QuantityKind::time_constant, p.tau_short);
   if (p.st_a_plus < 0) throw t.error("st_a_plus", "must not be negative");
   if (p.st_a_minus < 0) throw t.error("st_a_minus", "must not be negative");
   if (!(p.tau_short > 0)) throw t.error("tau_short", "must be positive");

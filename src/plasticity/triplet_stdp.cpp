@@ -6,21 +6,21 @@ namespace nvsyn {
 
 TripletStdpParameters TripletStdpParameters::from_table(const ParamTable& t) {
   TripletStdpParameters p;
-  p.a2_plus = t.number_or("a2_plus", p.a2_plus);
-  p.a3_plus = t.number_or("a3_plus", p.a3_plus);
-  p.a2_minus = t.number_or("a2_minus", p.a2_minus);
-  p.a3_minus = t.number_or("a3_minus", p.a3_minus);
-  p.tau_plus = t.quantity_or("tau_plus", Dimension::time, p.tau_plus);
-  p.tau_minus = t.quantity_or("tau_minus", Dimension::time, p.tau_minus);
-  p.tau_x = t.quantity_or("tau_x", Dimension::time, p.tau_x);
-  p.tau_y = t.quantity_or("tau_y", Dimension::time, p.tau_y);
-  p.w_max = t.quantity("w_max", Dimension::current);
+  p.a2_plus = t.number_or("a2_plus", QuantityKind::learning_amplitude, p.a2_plus);
+  p.a3_plus = t.number_or("a3_plus", QuantityKind::learning_amplitude, p.a3_plus);
+  p.a2_minus = t.number_or("a2_minus", QuantityKind::learning_amplitude, p.a2_minus);
+  p.a3_minus = t.number_or("a3_minus", QuantityKind::learning_amplitude, p.a3_minus);
+  p.tau_plus = t.quantity_or("tau_plus", QuantityKind::time_constant, p.tau_plus);
+  p.tau_minus = t.quantity_or("tau_minus", QuantityKind::time_constant, p.tau_minus);
+  p.tau_x = t.quantity_or("tau_x", QuantityKind::time_constant, p.tau_x);
+  p.tau_y = t.quantity_or("tau_y", QuantityKind::time_constant, p.tau_y);
+  p.w_max = t.quantity("w_max", QuantityKind::weight_scale);
   const std::string pairing = t.text_or("pairing", "all_to_all");
   if (pairing == "all_to_all") p.nearest = false;
   else if (pairing == "nearest") p.nearest = true;
   else throw t.error("pairing", fmt::format("unknown pairing '{}'; expected all_to_all or nearest", pairing));
   for (const char* key : {"a2_plus", "a3_plus", "a2_minus", "a3_minus"})
-    if (t.number_or(key, 0.0) < 0) throw t.error(key, "amplitudes must not be negative");
+    if (t.number_or(key, QuantityKind::learning_amplitude, 0.0) < 0) throw t.error(key, "amplitudes must not be negative");
   for (auto [key, v] : {std::pair{"tau_plus", p.tau_plus}, {"tau_minus", p.tau_minus}, {"tau_x", p.tau_x}, {"tau_y", p.tau_y}})
     if (!(v > 0)) throw t.error(key, "must be positive");
   if (!(p.w_max > 0)) throw t.error("w_max", "must be positive");

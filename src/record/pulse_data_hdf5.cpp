@@ -3,13 +3,15 @@
 #include <array>
 #include <cmath>
 #include <cstdint>
-#include <filesystem>
 #include <fmt/format.h>
 #include <fstream>
 #include <limits>
 #include <optional>
+#include <span>
 
+#include "core/input_file.hpp"
 #include "core/units.hpp"
+#include "record/detail/dataset_size.hpp"
 #include "record/detail/hdf5_handle.hpp"
 
 namespace nvsyn {
@@ -21,6 +23,10 @@ constexpr const char* kGroup = "pulses";
 constexpr std::string_view kLayout =
     "/pulses/device, cycle, pulse, polarity (integer datasets or strings), conductance (with a units "
     "attribute) and optionally read_time (with a units attribute)";
+
+// Memory held per read while a file is loaded: the record, every column's values and
+// one conversion buffer (generous on purpose); a column's stored element size is added.
+constexpr double kBytesPerRead = sizeof(PulseRecord) + 96;
 
 // Everything a reader can trip over is in the user's file.
 class Reader {
@@ -54,6 +60,12 @@ class Reader {
     if (rank != 1) fail(column, fmt::format("expected a one-dimensional dataset, found {} dimensions", rank));
     hsize_t n = 0;
     H5Sget_simple_extent_dims(space.get(), &n, nullptr);
+    // The length is what the file claims: check it before anything is allocated.
+    H5Handle type = detail::type_handle(H5Dget_type(d));
+    const double element_bytes = type.valid() ? static_cast<double>(H5Tget_size(type.get())) : 0.0;
+    const detail::DatasetSize size =
+        detail::check_dataset_size(d, std::span<const hsize_t>(&n, 1), kBytesPerRead + element_bytes);
+    if (size.problem) fail(column, *size.problem);
     return static_cast<std::size_t>(n);
   }
 
@@ -112,6 +124,8 @@ class Reader {
       fail(column, fmt::format("the dataset needs a string attribute 'units', e.g. \"{}\"", example));
     H5Handle attr = detail::attribute_handle(H5Aopen(d, "units", H5P_DEFAULT));
     if (!attr.valid()) fail(column, "cannot open the attribute 'units': " + detail::hdf5_error_text());
+    if (auto problem = detail::single_value_attribute_problem(attr.get()))
+      fail(column, "attribute 'units' " + *problem);
     const std::string unit = read_strings(attr.get(), true, 1, column).front();
     std::string why;
     const auto q = parse_quantity("1 " + unit, why);
@@ -189,6 +203,9 @@ std::vector<Polarity> polarities(const Reader& r, hid_t group, std::size_t& n) {
 }  // namespace
 
 bool looks_like_hdf5(const std::string& path) {
+  // Anything but a regular file is refused by whichever reader is chosen; opening a
+  // FIFO here would wait for a writer.
+  if (input_file_problem(path, "pulse-data file")) return false;
   std::ifstream in(path, std::ios::binary);
   std::array<char, 8> head{};
   if (!in.read(head.data(), head.size())) return false;
@@ -204,9 +221,7 @@ PulseData read_pulse_hdf5(const std::string& path) {
   data.column_prefix = "/pulses/";
   Reader r(data);
 
-  std::error_code ec;
-  if (std::filesystem::is_directory(path, ec)) throw UserError({path}, "", "is a folder, not a pulse-data file");
-  if (!std::filesystem::exists(path, ec)) throw UserError({path}, "", "cannot read the pulse-data file: no such file");
+  check_input_file(path, "pulse-data file");
   H5Handle file = detail::file_handle(H5Fopen(path.c_str(), H5F_ACC_RDONLY, H5P_DEFAULT));
   if (!file.valid()) throw UserError({path}, "", "cannot open as HDF5: " + detail::hdf5_error_text());
   if (!r.has(file.get(), kGroup))

@@ -2,11 +2,15 @@
 
 #include <fmt/format.h>
 
+#include <algorithm>
 #include <array>
 #include <filesystem>
+#include <span>
 #include <system_error>
 
 #include "core/error.hpp"
+#include "core/input_file.hpp"
+#include "record/detail/dataset_size.hpp"
 #include "record/detail/hdf5_handle.hpp"
 
 namespace nvsyn {
@@ -72,7 +76,7 @@ std::vector<std::string> child_names(const FileContext& file, hid_t group, std::
   H5Eclear2(H5E_DEFAULT);
 
   std::vector<std::string> names;
-  names.reserve(info.nlinks);
+  names.reserve(std::min<hsize_t>(info.nlinks, 1024));  // a count stated by the file: grow as names are read
   for (hsize_t i = 0; i < info.nlinks; ++i) {
     const ssize_t length = H5Lget_name_by_idx(group, ".", index, H5_ITER_INC, i, nullptr, 0, H5P_DEFAULT);
     if (length < 0) file.fail_hdf5("list group", path);
@@ -98,6 +102,8 @@ H5Handle open_attribute(const FileContext& file, hid_t object, const char* name,
 std::string read_string_attr(const FileContext& file, hid_t object, const char* name, std::string_view object_path) {
   const std::string what = fmt::format("{}@{}", object_path, name);
   H5Handle attr = open_attribute(file, object, name, what);
+  if (auto problem = detail::single_value_attribute_problem(attr.get()))
+    file.fail(fmt::format("attribute '{}' {}", what, *problem));
   H5Handle stored = file.checked(detail::type_handle(H5Aget_type(attr.get())), "get type of", what);
   if (H5Tget_class(stored.get()) != H5T_STRING) file.fail(fmt::format("attribute '{}' is not a string", what));
 
@@ -145,14 +151,25 @@ std::vector<hsize_t> dataset_dims(const FileContext& file, hid_t dataset, std::s
   return dims;
 }
 
+// The number of elements of a dataset whose stated size is plausible and fits in
+// memory at `memory_bytes_per_element` (detail/dataset_size.hpp); fails otherwise.
+std::uint64_t checked_elements(const FileContext& file, hid_t dataset, std::span<const hsize_t> dims,
+                               double memory_bytes_per_element, std::string_view path) {
+  const detail::DatasetSize size = detail::check_dataset_size(dataset, dims, memory_bytes_per_element);
+  if (size.problem) file.fail(fmt::format("dataset '{}' {}", path, *size.problem));
+  return size.elements;
+}
+
+// `memory_bytes_per_element`: what the caller will hold per element once it has read
+// this and its sibling datasets (default: this dataset alone).
 template <typename T>
 std::vector<T> read_1d(const FileContext& file, hid_t parent, const std::string& name, hid_t memory_type,
-                       std::string_view group_path) {
+                       std::string_view group_path, double memory_bytes_per_element = sizeof(T)) {
   const std::string path = fmt::format("{}/{}", group_path, name);
   H5Handle dataset = open_dataset(file, parent, name, path);
   const auto dims = dataset_dims(file, dataset.get(), path);
   if (dims.size() != 1) file.fail(fmt::format("dataset '{}' has rank {}, expected 1", path, dims.size()));
-  std::vector<T> values(dims[0]);
+  std::vector<T> values(checked_elements(file, dataset.get(), dims, memory_bytes_per_element, path));
   if (!values.empty())
     file.check(H5Dread(dataset.get(), memory_type, H5S_ALL, H5S_ALL, H5P_DEFAULT, values.data()), "read dataset",
                path);
@@ -180,6 +197,9 @@ RunReader::RunReader(const std::string& path) : impl_(std::make_unique<Impl>(pat
   std::error_code ec;
   if (!std::filesystem::exists(path, ec))
     throw UserError(fmt::format("cannot open run file '{}': no such file", path));
+  // Only regular files: HDF5 would wait forever on a FIFO.
+  if (auto problem = input_file_problem(path, "run file"))
+    throw UserError(fmt::format("cannot open run file '{}': {}", path, *problem));
   if (H5Fis_hdf5(path.c_str()) <= 0) {
     H5Eclear2(H5E_DEFAULT);
     throw UserError(fmt::format("cannot open run file '{}': not an HDF5 file", path));
@@ -293,12 +313,63 @@ SpikeData RunReader::read_spikes(const std::string& population) const {
   const std::string group_path = "/spikes/" + population;
   H5Handle group = open_group(file, spikes.get(), population, group_path);
   SpikeData data;
-  data.times = read_1d<double>(file, group.get(), "time", H5T_NATIVE_DOUBLE, group_path);
-  data.neurons = read_1d<std::uint32_t>(file, group.get(), "neuron", H5T_NATIVE_UINT32, group_path);
+  constexpr double kBytesPerSpike = sizeof(double) + sizeof(std::uint32_t);
+  data.times = read_1d<double>(file, group.get(), "time", H5T_NATIVE_DOUBLE, group_path, kBytesPerSpike);
+  data.neurons = read_1d<std::uint32_t>(file, group.get(), "neuron", H5T_NATIVE_UINT32, group_path, kBytesPerSpike);
   if (data.times.size() != data.neurons.size())
     file.fail(fmt::format("'{}/time' has {} entries but '{}/neuron' has {}", group_path, data.times.size(),
                           group_path, data.neurons.size()));
   return data;
+}
+
+void RunReader::for_each_spike_block(
+    const std::string& population,
+    const std::function<void(std::span<const double>, std::span<const std::uint32_t>)>& block) const {
+  const FileContext& file = impl_->file;
+  H5Handle spikes = open_group(file, impl_->handle.get(), "spikes", "/spikes");
+  if (!has_link(spikes.get(), population))
+    file.fail(fmt::format("no spikes recorded for population '{}'", population));
+  const std::string group_path = "/spikes/" + population;
+  H5Handle group = open_group(file, spikes.get(), population, group_path);
+
+  struct Column {
+    std::string path;
+    H5Handle dataset;
+    H5Handle file_space;
+    std::uint64_t length = 0;
+  };
+  auto open_column = [&](const char* name) {
+    Column c;
+    c.path = group_path + "/" + name;
+    c.dataset = open_dataset(file, group.get(), name, c.path);
+    const auto dims = dataset_dims(file, c.dataset.get(), c.path);
+    if (dims.size() != 1) file.fail(fmt::format("dataset '{}' has rank {}, expected 1", c.path, dims.size()));
+    c.length = checked_elements(file, c.dataset.get(), dims, 0.0, c.path);
+    c.file_space = file.checked(detail::space_handle(H5Dget_space(c.dataset.get())), "get dataspace of", c.path);
+    return c;
+  };
+  Column time = open_column("time");
+  Column neuron = open_column("neuron");
+  if (time.length != neuron.length)
+    file.fail(fmt::format("'{}' has {} entries but '{}' has {}", time.path, time.length, neuron.path, neuron.length));
+
+  std::vector<double> times(static_cast<std::size_t>(std::min<std::uint64_t>(time.length, kSpikeBlockLength)));
+  std::vector<std::uint32_t> neurons(times.size());
+  auto read_part = [&](Column& c, hid_t memory_type, void* buffer, hsize_t start, hsize_t count) {
+    const hsize_t stride = 1;
+    file.check(H5Sselect_hyperslab(c.file_space.get(), H5S_SELECT_SET, &start, &stride, &count, nullptr),
+               "select part of", c.path);
+    H5Handle memory_space = file.checked(detail::space_handle(H5Screate_simple(1, &count, nullptr)),
+                                         "make dataspace for", c.path);
+    file.check(H5Dread(c.dataset.get(), memory_type, memory_space.get(), c.file_space.get(), H5P_DEFAULT, buffer),
+               "read dataset", c.path);
+  };
+  for (std::uint64_t start = 0; start < time.length; start += times.size()) {
+    const auto count = static_cast<std::size_t>(std::min<std::uint64_t>(times.size(), time.length - start));
+    read_part(time, H5T_NATIVE_DOUBLE, times.data(), start, count);
+    read_part(neuron, H5T_NATIVE_UINT32, neurons.data(), start, count);
+    block(std::span<const double>(times.data(), count), std::span<const std::uint32_t>(neurons.data(), count));
+  }
 }
 
 PathwayData RunReader::read_pathway(const std::string& name) const {
@@ -308,10 +379,11 @@ PathwayData RunReader::read_pathway(const std::string& name) const {
   const std::string group_path = "/pathways/" + name;
   H5Handle group = open_group(file, pathways.get(), name, group_path);
   PathwayData data;
-  data.pre = read_1d<std::uint32_t>(file, group.get(), "pre", H5T_NATIVE_UINT32, group_path);
-  data.post = read_1d<std::uint32_t>(file, group.get(), "post", H5T_NATIVE_UINT32, group_path);
-  data.delay = read_1d<double>(file, group.get(), "delay", H5T_NATIVE_DOUBLE, group_path);
-  data.weight = read_1d<double>(file, group.get(), "weight", H5T_NATIVE_DOUBLE, group_path);
+  constexpr double kBytesPerSynapse = 2 * sizeof(std::uint32_t) + 2 * sizeof(double);
+  data.pre = read_1d<std::uint32_t>(file, group.get(), "pre", H5T_NATIVE_UINT32, group_path, kBytesPerSynapse);
+  data.post = read_1d<std::uint32_t>(file, group.get(), "post", H5T_NATIVE_UINT32, group_path, kBytesPerSynapse);
+  data.delay = read_1d<double>(file, group.get(), "delay", H5T_NATIVE_DOUBLE, group_path, kBytesPerSynapse);
+  data.weight = read_1d<double>(file, group.get(), "weight", H5T_NATIVE_DOUBLE, group_path, kBytesPerSynapse);
   const std::size_t n = data.pre.size();
   if (data.post.size() != n || data.delay.size() != n || data.weight.size() != n)
     file.fail(fmt::format("datasets of '{}' differ in length (pre {}, post {}, delay {}, weight {})", group_path, n,
@@ -341,7 +413,7 @@ TraceData RunReader::read_trace(const std::string& population, const std::string
     file.fail(fmt::format("dataset '{}' does not have shape [{}, {}] to match its time and neuron datasets",
                           value_path, data.times.size(), data.neurons.size()));
   data.units = read_string_attr(file, value.get(), "units", value_path);
-  data.values.resize(dims[0] * dims[1]);
+  data.values.resize(checked_elements(file, value.get(), dims, sizeof(double), value_path));
   if (!data.values.empty())
     file.check(H5Dread(value.get(), H5T_NATIVE_DOUBLE, H5S_ALL, H5S_ALL, H5P_DEFAULT, data.values.data()),
                "read dataset", value_path);

@@ -2,14 +2,18 @@
 // Reads a run file written by RunWriter (layout "nvsyn-run" version 1, LAYOUT.md).
 //
 // Opening reads only the small things (root attributes, the lists of populations,
-// pathways and traces); spike and trace data are read on request and in full, which
-// suits summaries and plots but not files larger than memory.
+// pathways and traces); spike and trace data are read on request, in full (refused
+// with a UserError when they would not fit in memory) or, for spikes, in blocks of
+// bounded size. Sizes the file states are checked before anything is allocated for
+// them (detail/dataset_size.hpp), so a damaged or crafted file cannot exhaust memory.
 // A file that is missing, not HDF5, not a run file or of another layout version is a
 // UserError naming the file, as is a run file whose content breaks the layout.
 // Not thread-safe: use one reader per thread.
 #include <cstdint>
+#include <functional>
 #include <memory>
 #include <optional>
+#include <span>
 #include <string>
 #include <string_view>
 #include <vector>
@@ -92,6 +96,13 @@ class RunReader {
   const RunFileInfo& info() const;
   // Throws UserError when the population has no recorded spikes.
   SpikeData read_spikes(const std::string& population) const;
+  // Calls `block` with consecutive parts of the population's spikes, in file order,
+  // each at most kSpikeBlockLength long: memory stays bounded however many spikes
+  // the file holds. Throws UserError as read_spikes does.
+  static constexpr std::size_t kSpikeBlockLength = std::size_t{1} << 20;
+  void for_each_spike_block(
+      const std::string& population,
+      const std::function<void(std::span<const double> times, std::span<const std::uint32_t> neurons)>& block) const;
   // Throws UserError when no such pathway was written.
   PathwayData read_pathway(const std::string& name) const;
   // Throws UserError when no such trace was recorded.

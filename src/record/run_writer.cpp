@@ -572,7 +572,7 @@ void RunWriter::flush() {
   w.h5.check(H5Fflush(w.file.get(), H5F_SCOPE_GLOBAL), "flush", w.h5.path());
 }
 
-void RunWriter::finish(RunStatus status, double model_time_reached) {
+void RunWriter::finish(RunStatus status, double model_time_reached, std::string_view failure) {
   Impl& w = *impl_;
   w.require_open("finish");
   // Marked closed first: if anything below throws, the destructor must not try again.
@@ -581,6 +581,7 @@ void RunWriter::finish(RunStatus status, double model_time_reached) {
   const hid_t root = w.file.get();
   write_string_attr(w.h5, root, "status", run_status_name(status), "/");
   write_scalar_attr(w.h5, root, "time_reached", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, model_time_reached, "/");
+  if (!failure.empty()) write_string_attr(w.h5, root, "failure", failure, "/");
   w.spike_streams.clear();
   w.trace_streams.clear();
   w.weight_streams.clear();

@@ -112,7 +112,8 @@ class RunWriter {
   // Writes buffered rows to the file and flushes HDF5's caches.
   void flush();
   // Final status and model time reached; flushes and closes. Safe to call once.
-  void finish(RunStatus status, double model_time_reached);
+  // `failure` (for status failed) is stored as the root attribute "failure".
+  void finish(RunStatus status, double model_time_reached, std::string_view failure = {});
 
  private:
   struct Impl;

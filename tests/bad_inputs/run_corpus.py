@@ -22,6 +22,9 @@ from checker import Checker  # noqa: E402
 MODULES = [
     "cases_models",       # malformed model files, files they name, command lines of run/check
     "cases_fit",          # pulse data, presets and options of fit-device
+    "cases_files",        # outputs that would destroy inputs, special and oversized files, HDF5 size claims
+    "cases_limits",       # plausible ranges, memory and run-cost limits with their consent, nesting, 2^32 indices
+    "cases_numerics",     # non-finite states during a run, long silences, Ctrl-C in slow learning, window counts
 ]
 
 

@@ -62,3 +62,40 @@ TEST_CASE("below(n) covers [0, n) evenly", "[random]") {
   const double sd = std::sqrt(n * (1.0 / 7) * (6.0 / 7));
   for (int c : counts) CHECK(std::abs(c - n / 7.0) < 5 * sd);
 }
+
+TEST_CASE("a block drawn without a stream equals the stream's draws after seek_block", "[random]") {
+  // Hot paths (device reads, stochastic rounding) take one block directly; their
+  // numbers must be the stream's, bit for bit, so either way of drawing can be used.
+  for (std::uint64_t block : {std::uint64_t{0}, std::uint64_t{1}, std::uint64_t{77}, std::uint64_t{4'000'000'000}}) {
+    const std::uint64_t entity = (std::uint64_t{3} << 40) | 12345;
+    const RandomBlock b = random_block(2024, StreamPurpose::device_read_noise, entity, block);
+
+    RandomStream uniforms(2024, StreamPurpose::device_read_noise, entity);
+    uniforms.seek_block(block);
+    CHECK(block_uniform(b, 0) == uniforms.uniform());
+    CHECK(block_uniform(b, 1) == uniforms.uniform());
+
+    RandomStream normals(2024, StreamPurpose::device_read_noise, entity);
+    normals.seek_block(block);
+    const std::array<double, 2> z = block_normals(b);
+    CHECK(z[0] == normals.normal());
+    CHECK(z[1] == normals.normal());
+  }
+}
+
+TEST_CASE("both normals of a block are standard and uncorrelated", "[random]") {
+  // 10^5 blocks; 5 standard errors per moment (false failure below 1e-6 each).
+  // The correlation of independent normals has standard error 1/sqrt(n).
+  constexpr int n = 100000;
+  double s0 = 0, s1 = 0, s00 = 0, s11 = 0, s01 = 0;
+  for (int i = 0; i < n; ++i) {
+    const std::array<double, 2> z = block_normals(random_block(7, StreamPurpose::device_read_noise, 1, i));
+    s0 += z[0]; s1 += z[1];
+    s00 += z[0] * z[0]; s11 += z[1] * z[1]; s01 += z[0] * z[1];
+  }
+  CHECK(std::abs(s0 / n) < 5 * std::sqrt(1.0 / n));
+  CHECK(std::abs(s1 / n) < 5 * std::sqrt(1.0 / n));
+  CHECK(std::abs(s00 / n - 1.0) < 5 * std::sqrt(2.0 / n));
+  CHECK(std::abs(s11 / n - 1.0) < 5 * std::sqrt(2.0 / n));
+  CHECK(std::abs(s01 / n) < 5 * std::sqrt(1.0 / n));
+}

@@ -58,3 +58,28 @@ TEST_CASE("exact powers of 1000 take the larger prefix", "[units]") {
   CHECK(format_quantity(1e-3, Dimension::time) == "1 ms");
   CHECK(format_quantity(1e-9, Dimension::current) == "1 nA");
 }
+
+TEST_CASE("a quantity must stay finite and normal after its prefix is applied", "[units]") {
+  // Finite as written, infinite in SI units: 1e300 x 1e12 overflows a double.
+  CHECK_THAT(parse_error("1e300 TA"), Catch::Contains("not a finite number in SI units"));
+  // Nonzero as written, zero or subnormal in SI units.
+  CHECK_THAT(parse_error("1e-300 fA"), Catch::Contains("too small to represent"));
+  CHECK_THAT(parse_error("1e-300 nA"), Catch::Contains("too small to represent"));
+  // Beyond a double already as written.
+  CHECK_THAT(parse_error("1e400 s"), Catch::Contains("too large or too small"));
+  CHECK_THAT(parse_error("1e-400 s"), Catch::Contains("too large or too small"));
+  // Zero stays zero, and the extremes that do fit are kept.
+  CHECK(parse_ok("0 TA").value_si == 0.0);
+  CHECK(parse_ok("1e290 TA").value_si == Approx(1e302));
+  CHECK(parse_ok("1e-290 fA").value_si == Approx(1e-305));
+}
+
+TEST_CASE("format_time uses minutes to years above a minute", "[units]") {
+  CHECK(format_time(0.02) == "20 ms");
+  CHECK(format_time(30.0) == "30 s");
+  CHECK(format_time(2000.0) == "33.3 min");
+  CHECK(format_time(7200.0) == "2 h");
+  CHECK(format_time(1e9) == "31.7 yr");
+  CHECK(format_time(1e4 * 365.25 * 86400.0) == "10000 yr");
+  CHECK(format_time(1e300) == "1e+300 s");
+}

@@ -93,3 +93,43 @@ TEST_CASE("ideal devices take every request exactly", "[policy]") {
   const auto o = policy.apply(syn, 0, 1.2345e-10, 0.0);
   CHECK(o.realised == Approx(1.2345e-10).epsilon(1e-12));
 }
+
+TEST_CASE("pulse counts follow the rounding definitions at and near the thresholds", "[policy]") {
+  // The policy settles most requests early (rounds_to_zero); the counts must be those
+  // of the definitions in programming_policy.hpp, including requests just below and at
+  // half a step and one step. Stochastic rounding: the uniform of update u of synapse k
+  // is the first uniform of block u of stream (seed, stochastic_rounding, pathway << 40 | k).
+  DeviceParameters p = test::device_of(DeviceKind::linear_levels);
+  p.levels = 1000;
+  const double step = 1e-3 * p.nominal_step();
+  const std::vector<double> fractions{0.01, 0.3, std::nextafter(0.5, 0.0), 0.5, 0.7, std::nextafter(1.0, 0.0),
+                                      1.0, 1.3, 2.5, 2.9};
+  constexpr std::uint64_t seed = 5;
+  constexpr std::uint32_t pathway = 2;
+  for (Rounding rounding : {Rounding::nearest, Rounding::stochastic}) {
+    const int updates = 40;
+    const std::size_t n = fractions.size();
+    SynapseDevices syn(p, single_layout(), n, seed, pathway);
+    PolicyParameters pp;
+    pp.rounding = rounding;
+    ProgrammingPolicy policy(pp, n, seed, pathway);
+    // Mid-range, so that no request here reaches a bound of the device.
+    for (std::size_t k = 0; k < n; ++k) syn.pulse(k, Polarity::potentiate, p.levels / 2, 0.0);
+    for (std::size_t k = 0; k < n; ++k)
+      for (int u = 0; u < updates; ++u) {
+        const double dw = (u % 2 ? -1.0 : 1.0) * fractions[k] * step;
+        // Evaluated before the update, on the state it sees.
+        const double x = std::abs(dw) / syn.expected_weight_step(k, dw > 0 ? Polarity::potentiate : Polarity::depress);
+        std::uint32_t expected = 0;
+        if (rounding == Rounding::nearest) {
+          expected = static_cast<std::uint32_t>(std::round(x));
+        } else {
+          RandomStream rng(seed, StreamPurpose::stochastic_rounding, (std::uint64_t{pathway} << 40) | k);
+          rng.seek_block(static_cast<std::uint64_t>(u));
+          expected = static_cast<std::uint32_t>(std::floor(x)) + (rng.uniform() < x - std::floor(x) ? 1u : 0u);
+        }
+        INFO(rounding_name(rounding) << ": synapse " << k << " (" << fractions[k] << " steps), update " << u);
+        REQUIRE(policy.apply(syn, k, dw, u).pulses == expected);
+      }
+  }
+}

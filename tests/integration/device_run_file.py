@@ -23,7 +23,7 @@ def main():
     nvsyn, model, scratch = sys.argv[1:4]
     os.makedirs(scratch, exist_ok=True)
     out = os.path.join(scratch, "devices.h5")
-    subprocess.run([nvsyn, "run", model, "-o", out, "--quiet", "--duration", "0.3 s"],
+    subprocess.run([nvsyn, "run", model, "-o", out, "--force", "--quiet", "--duration", "0.3 s"],
                    check=True, stdout=subprocess.DEVNULL)
     results = []
     with h5py.File(out, "r") as f:

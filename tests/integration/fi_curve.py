@@ -61,7 +61,7 @@ def main():
     os.makedirs(scratch, exist_ok=True)
     model, run = os.path.join(scratch, "fi.toml"), os.path.join(scratch, "fi.h5")
     write_model(model)
-    subprocess.run([nvsyn, "run", model, "-o", run, "--quiet"], check=True, stdout=subprocess.DEVNULL)
+    subprocess.run([nvsyn, "run", model, "-o", run, "--force", "--quiet"], check=True, stdout=subprocess.DEVNULL)
     with h5py.File(run, "r") as f:
         times = f["spikes/cells/time"][:]
         neurons = f["spikes/cells/neuron"][:]

@@ -19,7 +19,7 @@ from checklist import report
 
 
 def run(nvsyn, model, out, *extra):
-    subprocess.run([nvsyn, "run", model, "-o", out, "--quiet", *extra], check=True, stdout=subprocess.DEVNULL)
+    subprocess.run([nvsyn, "run", model, "-o", out, "--force", "--quiet", *extra], check=True, stdout=subprocess.DEVNULL)
 
 
 def main():

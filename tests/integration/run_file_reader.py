@@ -19,7 +19,7 @@ from checklist import report
 
 
 def run(nvsyn, model, out, *extra):
-    subprocess.run([nvsyn, "run", model, "-o", out, "--quiet", "--duration", "0.5 s", *extra],
+    subprocess.run([nvsyn, "run", model, "-o", out, "--force", "--quiet", "--duration", "0.5 s", *extra],
                    check=True, stdout=subprocess.DEVNULL)
 
 

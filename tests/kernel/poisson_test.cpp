@@ -4,7 +4,7 @@
 #include <cmath>
 #include <vector>
 
-#include "inputs/poisson_group.hpp"
+#include "inputs/poisson_trains.hpp"
 
 using namespace nvsyn;
 
@@ -26,7 +26,7 @@ double kolmogorov_p_value(double d, std::size_t n) {
 TEST_CASE("Poisson spike counts have mean and variance rate x duration", "[poisson]") {
   constexpr std::uint32_t sources = 2000;
   constexpr double rate = 12.0, duration = 5.0;
-  PoissonGroup group(sources, rate, 0.0, 0.0, 77, 3);
+  PoissonTrains group(sources, rate, 0.0, 0.0, 77, 3);
   std::vector<SourceSpike> spikes;
   // Emit in uneven windows: the result must not depend on the window length.
   for (double t = 0.0013; t < duration; t += 0.0013) group.emit(t, spikes);
@@ -54,7 +54,7 @@ TEST_CASE("Poisson spike counts have mean and variance rate x duration", "[poiss
 
 TEST_CASE("Poisson inter-spike intervals are exponential (Kolmogorov-Smirnov, 1% level)", "[poisson]") {
   constexpr double rate = 30.0;
-  PoissonGroup group(50, rate, 0.0, 0.0, 2024, 0);
+  PoissonTrains group(50, rate, 0.0, 0.0, 2024, 0);
   std::vector<SourceSpike> spikes;
   group.emit(20.0, spikes);
   std::vector<std::vector<double>> trains(50);
@@ -84,7 +84,7 @@ TEST_CASE("Poisson inter-spike intervals are exponential (Kolmogorov-Smirnov, 1%
 }
 
 TEST_CASE("a Poisson source is silent outside [start, stop)", "[poisson]") {
-  PoissonGroup group(100, 50.0, 0.2, 0.5, 1, 0);
+  PoissonTrains group(100, 50.0, 0.2, 0.5, 1, 0);
   std::vector<SourceSpike> spikes;
   group.emit(1.0, spikes);
   REQUIRE_FALSE(spikes.empty());

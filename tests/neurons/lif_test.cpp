@@ -27,7 +27,7 @@ LifParameters base_parameters() {
 
 std::vector<double> run_alone(const LifParameters& p, std::vector<NeuronInput> inputs, double t_end,
                               std::vector<double>* samples = nullptr) {
-  LifGroup group(1, p, 1, 0);
+  LifBank group(1, p, 1, 0);
   std::vector<double> spikes;
   std::vector<double> sample_buffer(inputs.size() * 4);
   PlainInputs hooks;
@@ -70,7 +70,7 @@ TEST_CASE("sub-threshold constant current never fires", "[lif]") {
   const double rheobase = (p.v_threshold - p.v_rest) * p.capacitance / p.tau_m;
   p.bias = 0.999 * rheobase;
   CHECK(run_alone(p, {}, 100.0).empty());
-  LifGroup group(1, p, 1, 0);
+  LifBank group(1, p, 1, 0);
   // Exactly at rheobase V approaches threshold only asymptotically.
   p.bias = rheobase * (1 - 1e-12);
   CHECK(run_alone(p, {}, 10.0).empty());
@@ -183,10 +183,10 @@ TEST_CASE("refractory period holds the potential at reset", "[lif]") {
 
 TEST_CASE("a quiescent neuron reports that it cannot fire without input", "[lif]") {
   LifParameters p = base_parameters();
-  LifGroup quiet(1, p, 1, 0);
+  LifBank quiet(1, p, 1, 0);
   CHECK_FALSE(quiet.may_fire_without_input(0));
   p.bias = 2e-9;
-  LifGroup driven(1, p, 1, 0);
+  LifBank driven(1, p, 1, 0);
   CHECK(driven.may_fire_without_input(0));
 }
 

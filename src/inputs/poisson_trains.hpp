@@ -1,5 +1,6 @@
 #pragma once
-// Independent Poisson spike sources with a constant rate, active in [start, stop).
+// A set of independent Poisson spike trains (one per source) with a constant rate,
+// active in [start, stop).
 //
 // Each source draws its inter-spike intervals (exponential, mean 1/rate) from its
 // own stream keyed by (seed, poisson, group, source), so its spike train does not
@@ -13,13 +14,14 @@
 
 namespace nvsyn {
 
-class PoissonGroup final : public SpikeSource {
+class PoissonTrains final : public SpikeSource {
  public:
-  PoissonGroup(std::uint32_t size, double rate_hz, double start, double stop, std::uint64_t seed,
-               std::uint32_t group_id);
+  PoissonTrains(std::uint32_t size, double rate_hz, double start, double stop, std::uint64_t seed,
+                std::uint32_t group_id);
 
   std::uint32_t size() const override { return static_cast<std::uint32_t>(next_.size()); }
   std::string describe() const override;
+  double expected_spikes(double t_end) const override;
   double rate() const { return rate_; }
 
   // Appends the spikes in [t_begin, t_end) of every source; order within the
@@ -27,7 +29,7 @@ class PoissonGroup final : public SpikeSource {
   void emit(double t_end, std::vector<SourceSpike>& out) override;
 
  private:
-  double rate_, stop_;
+  double rate_, start_, stop_;
   std::vector<double> next_;  // next spike time per source
   std::vector<RandomStream> rng_;
 };

@@ -1,5 +1,6 @@
-#include "inputs/poisson_group.hpp"
+#include "inputs/poisson_trains.hpp"
 
+#include <algorithm>
 #include <fmt/format.h>
 #include <limits>
 
@@ -7,9 +8,9 @@
 
 namespace nvsyn {
 
-PoissonGroup::PoissonGroup(std::uint32_t size, double rate_hz, double start, double stop,
+PoissonTrains::PoissonTrains(std::uint32_t size, double rate_hz, double start, double stop,
                            std::uint64_t seed, std::uint32_t group_id)
-    : rate_(rate_hz), stop_(stop > start ? stop : std::numeric_limits<double>::infinity()) {
+    : rate_(rate_hz), start_(start), stop_(stop > start ? stop : std::numeric_limits<double>::infinity()) {
   next_.resize(size);
   rng_.reserve(size);
   for (std::uint32_t i = 0; i < size; ++i) {
@@ -18,11 +19,16 @@ PoissonGroup::PoissonGroup(std::uint32_t size, double rate_hz, double start, dou
   }
 }
 
-std::string PoissonGroup::describe() const {
+std::string PoissonTrains::describe() const {
   return fmt::format("Poisson sources at {}", format_quantity(rate_, Dimension::frequency));
 }
 
-void PoissonGroup::emit(double t_end, std::vector<SourceSpike>& out) {
+double PoissonTrains::expected_spikes(double t_end) const {
+  const double active = std::min(t_end, stop_) - start_;
+  return active > 0 ? rate_ * active * static_cast<double>(size()) : 0.0;
+}
+
+void PoissonTrains::emit(double t_end, std::vector<SourceSpike>& out) {
   for (std::uint32_t i = 0; i < size(); ++i) {
     while (next_[i] < t_end && next_[i] < stop_) {
       out.push_back({next_[i], i});

@@ -1,7 +1,7 @@
 #pragma once
 // The interface between the event kernel and a neuron model.
 //
-// A NeuronGroup holds the state of all neurons of one population as structure of
+// A NeuronBank holds the state of all neurons of one population as structure of
 // arrays. The kernel hands it, neuron by neuron, the inputs that arrive at that
 // neuron inside one window [t_begin, t_end), sorted by (time, kind, source, sequence).
 // The model advances the neuron exactly from event to event, locates threshold
@@ -60,9 +60,9 @@ struct TraceVariable {
   Dimension dimension;
 };
 
-class NeuronGroup {
+class NeuronBank {
  public:
-  virtual ~NeuronGroup() = default;
+  virtual ~NeuronBank() = default;
 
   virtual std::string_view model_name() const = 0;
   virtual std::uint32_t size() const = 0;
@@ -71,6 +71,8 @@ class NeuronGroup {
   // neuron evolve freely until t_end (exclusive). Appends spike times, ascending,
   // to `spikes`. For each sample input, writes variables() values of the neuron at
   // that time into samples[slot * variables().size() + k].
+  // Throws RunFailure (core/run_failure.hpp) naming the neuron, the variable and the
+  // time when a state becomes NaN or infinite, checked once per call.
   virtual void process(std::uint32_t neuron, std::span<const NeuronInput> inputs, double t_end,
                        std::vector<double>& spikes, std::span<double> samples, SpikeHooks& hooks) = 0;
 
