@@ -12,24 +12,12 @@ build=${1:-$root/build}
 work=$(mktemp -d)
 trap 'rm -rf "$work"' EXIT
 
-rule='
-[pathway.exc_exc.plasticity]
-rule = "pair_stdp"
-form = "additive"
-a_plus = 0.005
-a_minus = 0.00525
-tau_plus = "20 ms"
-tau_minus = "20 ms"
-w_max = "0.06 nA"
-'
-device='
-[pathway.exc_exc.synapse]
-preset = "phase_change"
-weight_max = "0.06 nA"
-'
+# The rule and the device are shared with run_suite.py (experiments/bench/fragments).
+rule="$here/fragments/pair_stdp_exc_exc.toml"
+device="$here/fragments/phase_change_exc_exc.toml"
 cp "$root/models/demo_network.toml" "$work/static.toml"
-{ cat "$root/models/demo_network.toml"; echo "$rule"; } > "$work/stdp_ideal.toml"
-{ cat "$root/models/demo_network.toml"; echo "$rule"; echo "$device"; } > "$work/stdp_pcm.toml"
+cat "$root/models/demo_network.toml" "$rule" > "$work/stdp_ideal.toml"
+cat "$root/models/demo_network.toml" "$rule" "$device" > "$work/stdp_pcm.toml"
 # Presets are found by name relative to nvsyn's models/devices.
 echo "machine: $(nproc) cores, $(grep -m1 'model name' /proc/cpuinfo | cut -d: -f2 | sed 's/^ //')"
 printf '%-12s %10s %16s %14s %12s\n' variant wall_s events_per_s updates_per_s peak_MiB
