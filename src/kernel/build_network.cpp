@@ -349,11 +349,11 @@ Simulation Simulation::build(const Model& model, const BuildOptions& options) {
                     format_quantity(d_min, Dimension::time), format_quantity(d_max, Dimension::time), buckets,
                     format_bytes(ring_bytes), format_bytes(physical)));
   s->ring.resize(static_cast<std::size_t>(buckets));
-  s->active.resize(s->network.populations.size());
+  s->calendar.reserve(s->network.populations.size());
   for (std::uint32_t p = 0; p < s->network.populations.size(); ++p) {
     const NeuronBank& g = *s->network.populations[p].neurons;
-    for (std::uint32_t n = 0; n < g.size(); ++n)
-      if (g.may_fire_without_input(n)) s->active[p].push_back(n);
+    WakeCalendar& calendar = s->calendar.emplace_back(g.size());
+    for (std::uint32_t n = 0; n < g.size(); ++n) calendar.set(n, g.earliest_threshold_time(n));
   }
   Simulation sim(std::move(s));
   check_run_cost(estimate_run_cost(sim), sim, model, options);

@@ -79,10 +79,13 @@ struct NeuronRun {
   std::size_t next, end;
 };
 
-bool event_order(const PendingEvent& a, const PendingEvent& b) {
-  return std::tie(a.population, a.neuron, a.time, a.kind, a.source, a.pathway, a.synapse) <
-         std::tie(b.population, b.neuron, b.time, b.kind, b.source, b.pathway, b.synapse);
-}
+// A function object rather than a function, so that std::sort inlines the comparison.
+struct EventOrder {
+  bool operator()(const PendingEvent& a, const PendingEvent& b) const {
+    return std::tie(a.population, a.neuron, a.time, a.kind, a.source, a.pathway, a.synapse) <
+           std::tie(b.population, b.neuron, b.time, b.kind, b.source, b.pathway, b.synapse);
+  }
+};
 
 // Reusable buffers of the event loop: allocated once, reused every window.
 struct Scratch {
@@ -90,7 +93,7 @@ struct Scratch {
   std::vector<double> neuron_spikes;
   std::vector<WindowSpike> spikes;
   std::vector<SourceSpike> source_spikes;
-  std::vector<std::uint32_t> next_active;
+  std::vector<std::uint32_t> due;  // neurons whose wake-up time falls in the segment
   std::vector<std::vector<double>> samples;  // per population
   std::vector<std::uint32_t> sample_slots;   // per population: slots used this window
   std::vector<SampleRow> sample_rows;
@@ -358,7 +361,7 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
       if (scratch.samples[p].size() < need) scratch.samples[p].resize(need);
     }
 
-    std::sort(bucket.begin(), bucket.end(), event_order);
+    std::sort(bucket.begin(), bucket.end(), EventOrder{});
     for (auto& r : scratch.runs) r.clear();
     for (std::size_t e = 0; e < bucket.size();) {
       std::size_t end = e;
@@ -370,22 +373,26 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
     gather_globals(s, t_end, scratch.globals);
 
     // The window is cut at the times of global events into segments; in each, every
-    // neuron with input, or that may fire on its own, is processed in index order.
+    // neuron with input there, or whose wake-up time falls before the segment's end,
+    // is processed, in neuron index order; afterwards its wake-up time is predicted
+    // again from its new state.
     scratch.spikes.clear();
     for (std::size_t g = 0; g <= scratch.globals.size() && !stopped_inside; ++g) {
       const double segment_end = g < scratch.globals.size() ? scratch.globals[g].time : t_end;
       for (std::uint32_t p = 0; p < n_pop && !stopped_inside; ++p) {
         NeuronBank& group = *net.populations[p].neurons;
         KernelHooks hooks(s, scratch, p);
-        const std::vector<std::uint32_t>& active = s.active[p];
+        WakeCalendar& calendar = s.calendar[p];
+        std::vector<std::uint32_t>& due = scratch.due;
+        due.clear();
+        calendar.take_before(segment_end, due);
         std::vector<NeuronRun>& runs = scratch.runs[p];
-        scratch.next_active.clear();
         std::size_t a = 0, r = 0;
         for (;;) {
           while (r < runs.size() && (runs[r].next == runs[r].end || bucket[runs[r].next].time >= segment_end)) ++r;
           const bool has_event = r < runs.size();
-          const bool has_active = a < active.size();
-          if (!has_event && !has_active) break;
+          const bool has_due = a < due.size();
+          if (!has_event && !has_due) break;
           // A window can hold long work (many spikes, each updating many synapses):
           // a stop request is honoured between neurons, not only between windows.
           if (stop_requested()) {
@@ -393,9 +400,9 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
             break;
           }
           std::uint32_t n;
-          if (has_event && (!has_active || runs[r].neuron <= active[a])) n = runs[r].neuron;
-          else n = active[a];
-          if (has_active && active[a] == n) ++a;
+          if (has_event && (!has_due || runs[r].neuron <= due[a])) n = runs[r].neuron;
+          else n = due[a];
+          if (has_due && due[a] == n) ++a;
 
           scratch.inputs.clear();
           if (has_event && runs[r].neuron == n) {
@@ -428,16 +435,8 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
             throw e.within(fmt::format("population '{}'", net.populations[p].name));
           }
           for (double t : scratch.neuron_spikes) scratch.spikes.push_back({t, s.group_offset[p] + n, p, n});
-          if (group.may_fire_without_input(n)) scratch.next_active.push_back(n);
+          calendar.set(n, group.earliest_threshold_time(n));
         }
-        if (stopped_inside) break;
-        // Neurons with events left for later segments stay in the active set until then.
-        for (const NeuronRun& run : runs)
-          if (run.next < run.end) scratch.next_active.push_back(run.neuron);
-        std::sort(scratch.next_active.begin(), scratch.next_active.end());
-        scratch.next_active.erase(std::unique(scratch.next_active.begin(), scratch.next_active.end()),
-                                  scratch.next_active.end());
-        s.active[p].swap(scratch.next_active);
       }
       if (!stopped_inside && g < scratch.globals.size()) {
         try {

@@ -6,8 +6,18 @@
 // window every neuron is processed independently (the unit of work for threads
 // and of spike exchange between processes). Inside a neuron's window its inputs
 // are applied in (time, kind, source, pathway, synapse) order, so ties break the
-// same way on every run. Neurons that receive nothing and cannot fire on their own
-// are not visited. Spike times are exact: no global time grid exists.
+// same way on every run. Spike times are exact: no global time grid exists.
+//
+// Which neurons are visited: each population keeps a wake-up calendar
+// (kernel/wake_calendar.hpp), a min-heap of (time, neuron) holding for every
+// neuron NeuronBank::earliest_threshold_time, the earliest time it could reach
+// threshold without further input (a rigorous lower bound; +infinity if never).
+// In each segment of a window (windows are cut at global events: rewards,
+// normalisation, weight samples) a neuron is processed only if it has input in the
+// segment or its wake-up time lies before the segment's end; the two sets are
+// merged in neuron index order, and the neuron's wake-up time is read again after
+// its visit. Ruling a neuron out therefore costs nothing per window: neurons that
+// are idle, or charging towards a spike that is still far away, are not touched.
 #include <atomic>
 #include <cstdint>
 #include <memory>

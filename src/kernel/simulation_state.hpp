@@ -3,6 +3,7 @@
 #include <vector>
 
 #include "kernel/simulation.hpp"
+#include "kernel/wake_calendar.hpp"
 
 namespace nvsyn {
 
@@ -46,7 +47,7 @@ struct Simulation::State {
   // state is then partly ahead of next_window and must not be run further.
   bool unusable = false;
   std::vector<std::vector<PendingEvent>> ring;  // one bucket per future window
-  std::vector<std::vector<std::uint32_t>> active;  // per population, sorted
+  std::vector<WakeCalendar> calendar;              // per population: when neurons may fire on their own
   std::vector<std::size_t> next_reward;            // per pathway: index into its rewards
   std::vector<std::uint64_t> next_normalisation;   // per pathway: k of the next k * interval
   std::vector<std::uint64_t> next_weight_sample;   // per recorder

@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <array>
 #include <cmath>
+#include <limits>
 #include <fmt/format.h>
 
 #include "core/error.hpp"
@@ -60,14 +61,26 @@ LifParameters LifParameters::from_table(const ParamTable& t) {
 
 // ---------------------------------------------------------------- trajectory
 
-LifTrajectory::LifTrajectory(const LifParameters& p, const LifState& start, double drive, double theta)
-    : p_(p), start_(start), drive_(drive), theta_(theta), v_inf_(p.v_rest + p.resistance() * drive) {
+LifKernelShape::LifKernelShape(const LifParameters& p) {
   const double taus[2] = {p.tau_exc, p.tau_inh};
   for (int c = 0; c < 2; ++c) {
     const double d = 1.0 / taus[c] - 1.0 / p.tau_m;
-    gap_[c] = std::abs(d);
-    slow_tau_[c] = d > 0 ? p.tau_m : taus[c];
-    peak_s_[c] = d == 0.0 ? p.tau_m : log_ratio(p.tau_m, taus[c]) / d;
+    gap[c] = std::abs(d);
+    slow_tau[c] = d > 0 ? p.tau_m : taus[c];
+    peak_s[c] = d == 0.0 ? p.tau_m : log_ratio(p.tau_m, taus[c]) / d;
+  }
+}
+
+LifTrajectory::LifTrajectory(const LifParameters& p, const LifState& start, double drive, double theta)
+    : LifTrajectory(p, LifKernelShape(p), start, drive, theta) {}
+
+LifTrajectory::LifTrajectory(const LifParameters& p, const LifKernelShape& shape, const LifState& start,
+                             double drive, double theta)
+    : p_(p), start_(start), drive_(drive), theta_(theta), v_inf_(p.v_rest + p.resistance() * drive) {
+  for (int c = 0; c < 2; ++c) {
+    gap_[c] = shape.gap[c];
+    slow_tau_[c] = shape.slow_tau[c];
+    peak_s_[c] = shape.peak_s[c];
   }
 }
 
@@ -153,19 +166,22 @@ std::optional<double> LifTrajectory::first_crossing(double threshold, double hor
 
 LifBank::LifBank(std::uint32_t size, LifParameters params, std::uint64_t seed, std::uint32_t population_id)
     : p_(std::move(params)),
+      shape_(p_),
       v_(size),
       i_exc_(size, 0.0),
       i_inh_(size, 0.0),
       i_injected_(size, 0.0),
       t_last_(size, 0.0),
       refractory_until_(size, -1.0),
-      theta_(size, 0.0) {
-  const LifTrajectory unit(p_, {0.0, 0.0, 0.0}, 0.0);
+      theta_(size, 0.0),
+      wake_(size, 0.0) {
+  const LifTrajectory unit(p_, shape_, {0.0, 0.0, 0.0}, 0.0);
   kernel_peak_[0] = unit.kernel_peak(0);
   kernel_peak_[1] = unit.kernel_peak(1);
   for (std::uint32_t n = 0; n < size; ++n) {
     RandomStream rng(seed, StreamPurpose::initial_state, (std::uint64_t{population_id} << 32) | n);
     v_[n] = p_.v_init.draw(rng);
+    wake_[n] = predict_wake(n);
   }
 }
 
@@ -186,7 +202,7 @@ void LifBank::advance(std::uint32_t n, double t) {
       return;
     }
   }
-  LifTrajectory traj(p_, {v_[n], i_exc_[n], i_inh_[n]}, p_.bias + i_injected_[n]);
+  LifTrajectory traj(p_, shape_, {v_[n], i_exc_[n], i_inh_[n]}, p_.bias + i_injected_[n]);
   const LifState next = traj.state_at(s);
   v_[n] = next.v;
   i_exc_[n] = next.i_exc;
@@ -239,13 +255,16 @@ void LifBank::fire_until(std::uint32_t n, double t_limit, std::vector<double>& s
                                    i_exc_[n], i_inh_[n]),
                        t_last_[n]);
     }
+    // The wake-up bound rules out a crossing before t_limit with one log and no
+    // search; what it cannot rule out goes to the exact search below.
+    if (predict_wake(n) >= t_limit) return;
     if (t_last_[n] < refractory_until_[n]) {
       if (refractory_until_[n] >= t_limit) return;
       advance(n, refractory_until_[n]);
     }
     const double horizon = t_limit - t_last_[n];
     if (!(horizon > 0)) return;
-    LifTrajectory traj(p_, {v_[n], i_exc_[n], i_inh_[n]}, p_.bias + i_injected_[n], theta_[n]);
+    LifTrajectory traj(p_, shape_, {v_[n], i_exc_[n], i_inh_[n]}, p_.bias + i_injected_[n], theta_[n]);
     const auto crossing = traj.first_crossing(p_.v_threshold, horizon);
     if (!crossing) return;
     const double t_spike = t_last_[n] + *crossing;
@@ -267,15 +286,27 @@ void LifBank::fire_until(std::uint32_t n, double t_limit, std::vector<double>& s
 
 void LifBank::process(std::uint32_t n, std::span<const NeuronInput> inputs, double t_end,
                        std::vector<double>& spikes, std::span<double> samples, SpikeHooks& hooks) {
+  // The wake-up time stored after the last visit stays a valid lower bound while the
+  // neuron only evolves freely (advance follows the same trajectory); an input that
+  // changes the state, or a search that may have fired, makes it unknown (-inf).
+  // While it is known, the crossing search before an input is skipped without any
+  // maths-library call.
+  constexpr double kUnknown = -std::numeric_limits<double>::infinity();
+  double known_wake = wake_[n];
   for (const NeuronInput& in : inputs) {
-    fire_until(n, in.time, spikes, hooks);
+    if (known_wake < in.time) {
+      fire_until(n, in.time, spikes, hooks);
+      known_wake = kUnknown;
+    }
     advance(n, in.time);
     switch (in.kind) {
       case InputKind::synaptic:
         (in.receptor == Receptor::excitatory ? i_exc_[n] : i_inh_[n]) += hooks.synaptic_amount(n, in);
+        known_wake = kUnknown;
         break;
       case InputKind::current_change:
         i_injected_[n] += in.amount;
+        known_wake = kUnknown;
         break;
       case InputKind::sample:
         samples[in.slot * 4 + 0] = v_[n];
@@ -285,13 +316,48 @@ void LifBank::process(std::uint32_t n, std::span<const NeuronInput> inputs, doub
         break;
     }
   }
-  fire_until(n, t_end, spikes, hooks);
+  if (known_wake < t_end) fire_until(n, t_end, spikes, hooks);
   check_finite(n);
+  // No crossing lies before t_end. If the wake-up bound from the state at t_last
+  // still falls before t_end, move the state to t_end (exact) so that the next
+  // prediction starts there and the kernel does not wake the neuron again at once.
+  wake_[n] = predict_wake(n);
+  if (wake_[n] < t_end) {
+    advance(n, t_end);
+    check_finite(n);
+    wake_[n] = predict_wake(n);
+  }
 }
 
-bool LifBank::may_fire_without_input(std::uint32_t n) const {
-  // Upper bound of V over [t_last, infinity) without further input.
-  return cheap_upper_bound(n) >= p_.v_threshold;
+double LifBank::predict_wake(std::uint32_t n) const {
+  const bool held = t_last_[n] < refractory_until_[n];
+  const double t0 = held ? refractory_until_[n] : t_last_[n];
+  const double v0 = held ? p_.v_reset : v_[n];
+  const double v_inf = p_.v_rest + p_.resistance() * (p_.bias + i_injected_[n]);
+  // Positive currents only decay (also while held), so their peaks bound their
+  // contribution at every later time; the same terms as cheap_upper_bound.
+  const double lift =
+      (std::max(i_exc_[n], 0.0) * kernel_peak_[0] + std::max(i_inh_[n], 0.0) * kernel_peak_[1]) / p_.capacitance;
+  const double threshold = p_.v_threshold;
+  // A non-finite state is visited at once so that process() reports it.
+  if (!std::isfinite(v0 + v_inf + lift + t0)) return t_last_[n];
+  if (v0 + lift >= threshold) return t0;
+  if (v_inf + lift < threshold) return std::numeric_limits<double>::infinity();
+  // Here v0 < v_inf. The bound v_inf + lift - (v_inf - v0) e^{-s/tau_m} reaches
+  // threshold at s = tau_m ln((v_inf - v0) / (v_inf + lift - threshold)). Rounding
+  // of these differences, of the margin evaluated by the crossing search and of
+  // the log is covered by a slack of many ulps of the voltages involved, which
+  // only makes s smaller (an earlier, still valid wake-up).
+  const double slack = 64 * std::numeric_limits<double>::epsilon() *
+                       (std::abs(v_inf) + std::abs(v0) + std::abs(lift) + std::abs(threshold));
+  const double rise = (v_inf - v0) - slack;
+  const double room = (v_inf + lift - threshold) + slack;
+  if (!(rise > room)) return t0;
+  const double s = p_.tau_m * std::log(rise / room) * (1.0 - 1e-12);
+  // t0 + s rounds by at most half an ulp; taking 2^-51 of the sum off moves it at
+  // least one ulp down, below the exact sum (cheaper than nextafter).
+  const double sum = t0 + s;
+  return sum - std::abs(sum) * 0x1p-51;
 }
 
 std::span<const TraceVariable> LifBank::variables() const {

@@ -71,9 +71,21 @@ struct LifState {
   double i_inh = 0.0;
 };
 
+// Constants of the synaptic kernels K_exc, K_inh that depend only on the
+// parameters: computed once per population rather than per trajectory (two log
+// calls), bit-identical to computing them each time.
+struct LifKernelShape {
+  explicit LifKernelShape(const LifParameters& p);
+  double gap[2];       // 1/s, |d_x| = |1/tau_x - 1/tau_m|
+  double slow_tau[2];  // s, the longer of tau_m and tau_x
+  double peak_s[2];    // s, peak time of K_x
+};
+
 class LifTrajectory {
  public:
   LifTrajectory(const LifParameters& p, const LifState& start, double drive, double theta = 0.0);
+  LifTrajectory(const LifParameters& p, const LifKernelShape& shape, const LifState& start, double drive,
+                double theta = 0.0);
   double v_at(double s) const;
   // V(s) minus the adaptive part of the threshold: crossing means margin >= v_threshold.
   double margin_at(double s) const;
@@ -105,7 +117,15 @@ class LifBank final : public NeuronBank {
   std::uint32_t size() const override { return static_cast<std::uint32_t>(v_.size()); }
   void process(std::uint32_t neuron, std::span<const NeuronInput> inputs, double t_end,
                std::vector<double>& spikes, std::span<double> samples, SpikeHooks& hooks) override;
-  bool may_fire_without_input(std::uint32_t neuron) const override;
+  // Lower bound of the first threshold crossing without further input (one log):
+  // the margin V(s) - theta(s) never exceeds
+  //   v_inf + (V_0 - v_inf) e^{-s/tau_m} + sum over positive currents (I_x / C) max K_x
+  // (the synaptic terms bounded by their peaks, negative ones and theta >= 0 dropped),
+  // which is monotone in s and is solved for v_threshold in closed form. During
+  // refractoriness the bound starts at its end from v_reset.
+  // The value is computed when the state changes (end of process(), construction)
+  // and stored, so asking for it costs no maths-library call.
+  double earliest_threshold_time(std::uint32_t neuron) const override { return wake_[neuron]; }
   std::span<const TraceVariable> variables() const override;
   std::size_t bytes_per_neuron() const override { return 7 * sizeof(double); }
 
@@ -115,6 +135,8 @@ class LifBank final : public NeuronBank {
  private:
   void advance(std::uint32_t n, double t);
   void fire_until(std::uint32_t n, double t_limit, std::vector<double>& spikes, SpikeHooks& hooks);
+  // The wake-up bound described at earliest_threshold_time, from the present state.
+  double predict_wake(std::uint32_t n) const;
   // Upper bound of V over all future times without further input; costs no exp().
   double cheap_upper_bound(std::uint32_t n) const;
   // Throws RunFailure naming the variable if any state of neuron n is NaN or infinite.
@@ -122,10 +144,12 @@ class LifBank final : public NeuronBank {
   [[gnu::cold, gnu::noinline]] void report_non_finite(std::uint32_t n) const;
 
   LifParameters p_;
+  LifKernelShape shape_;
   double kernel_peak_[2];  // s, maxima of K_exc and K_inh
   // structure of arrays, one entry per neuron
   std::vector<double> v_, i_exc_, i_inh_, i_injected_, t_last_, refractory_until_;
   std::vector<double> theta_;  // V, adaptive threshold at t_last
+  std::vector<double> wake_;   // s, predict_wake() of the state after the last visit
 };
 
 }  // namespace nvsyn

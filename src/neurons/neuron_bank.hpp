@@ -5,10 +5,14 @@
 // arrays. The kernel hands it, neuron by neuron, the inputs that arrive at that
 // neuron inside one window [t_begin, t_end), sorted by (time, kind, source, sequence).
 // The model advances the neuron exactly from event to event, locates threshold
-// crossings in between to within 1e-9 s, and reports spike times. A neuron that
-// receives nothing and cannot fire on its own (may_fire_without_input() == false)
-// is never visited: idle neurons cost nothing.
+// crossings in between to within 1e-9 s, and reports spike times. Each model also
+// predicts, from a neuron's present state, the earliest time at which it could reach
+// threshold without further input (earliest_threshold_time); the kernel keeps these
+// times in a wake-up calendar and visits a neuron only in windows where it has input
+// or its wake-up time has come: idle neurons, and neurons that are charging up
+// towards a spike still far away, cost nothing.
 #include <cstdint>
+#include <limits>
 #include <span>
 #include <string>
 #include <string_view>
@@ -76,9 +80,18 @@ class NeuronBank {
   virtual void process(std::uint32_t neuron, std::span<const NeuronInput> inputs, double t_end,
                        std::vector<double>& spikes, std::span<double> samples, SpikeHooks& hooks) = 0;
 
-  // False when, without further input, the neuron can provably never reach
-  // threshold: the kernel then stops visiting it.
-  virtual bool may_fire_without_input(std::uint32_t neuron) const = 0;
+  // The earliest time (s) at which the neuron can reach threshold without further
+  // input, judged from its present state: exact, or a rigorous lower bound (a visit
+  // before the true crossing only costs time, a visit after it would lose the
+  // spike); +infinity when it provably never can. A non-finite state must give a
+  // finite time, so that the neuron is visited and process() reports it. Called by
+  // the kernel after every visit, so it should be cheap (no crossing search).
+  virtual double earliest_threshold_time(std::uint32_t neuron) const = 0;
+
+  // False when, without further input, the neuron can provably never reach threshold.
+  bool may_fire_without_input(std::uint32_t neuron) const {
+    return earliest_threshold_time(neuron) < std::numeric_limits<double>::infinity();
+  }
 
   virtual std::span<const TraceVariable> variables() const = 0;
   virtual std::size_t bytes_per_neuron() const = 0;
