@@ -1,6 +1,7 @@
 #include "kernel/simulation.hpp"
 
 #include <algorithm>
+#include <bit>
 #include <chrono>
 #include <cmath>
 #include <fmt/format.h>
@@ -79,11 +80,17 @@ struct NeuronRun {
   std::size_t next, end;
 };
 
+// Order of the events of one target neuron: by time; at equal times by kind (InputKind
+// order: current change, synaptic, sample), then by emitting source, pathway and synapse
+// (the documented equal-time order, DEVELOPERS.md "The kernel"). For current changes
+// `order` is 0 and the sequence number in `pathway` is unique, so the amount's bits in
+// `payload` never decide; for samples `order` is the slot, given in trace order, so
+// samples of one time keep their trace order.
 // A function object rather than a function, so that std::sort inlines the comparison.
-struct EventOrder {
+struct TargetEventOrder {
   bool operator()(const PendingEvent& a, const PendingEvent& b) const {
-    return std::tie(a.population, a.neuron, a.time, a.kind, a.source, a.pathway, a.synapse) <
-           std::tie(b.population, b.neuron, b.time, b.kind, b.source, b.pathway, b.synapse);
+    return std::tie(a.time, a.kind, a.order, a.pathway, a.payload) <
+           std::tie(b.time, b.kind, b.order, b.pathway, b.payload);
   }
 };
 
@@ -102,6 +109,11 @@ struct Scratch {
   std::vector<std::uint32_t> spike_neurons;
   std::vector<std::uint64_t> next_sample;  // per trace: index of the next sample time
   std::vector<std::vector<NeuronRun>> runs;  // per population
+  // Counting sort of a bucket by target (group-global neuron id): events per target,
+  // then where each target's events start; targets that have events this window.
+  std::vector<std::uint32_t> target_start;  // per population neuron, zero between windows
+  std::vector<std::uint32_t> targets;
+  std::vector<PendingEvent> sorted;  // the bucket, grouped by target, each target's events ordered
   std::vector<GlobalEvent> globals;
   std::vector<std::vector<WeightChange>> changes;  // per recorder, this window
   std::vector<double> weights;
@@ -265,6 +277,62 @@ void apply_global(Simulation::State& s, Scratch& scratch, RunObserver& observer,
   }
 }
 
+// Groups the bucket's events by target neuron into scratch.sorted, targets in
+// (population, neuron) order and each target's events in TargetEventOrder, and
+// lists each population's targets in scratch.runs. A counting sort: no comparison
+// between events of different targets. Only the targets that have events are
+// visited, so the cost follows the events, not the network's size.
+void group_by_target(const std::vector<PendingEvent>& bucket, const std::vector<std::uint32_t>& group_offset,
+                     Scratch& scratch) {
+  std::vector<std::uint32_t>& start = scratch.target_start;
+  std::vector<std::uint32_t>& targets = scratch.targets;
+  targets.clear();
+  for (const PendingEvent& e : bucket) {
+    const std::uint32_t id = e.target;
+    if (start[id]++ == 0) targets.push_back(id);
+  }
+  // Few targets: sort their ids; many: read them off the count array in order.
+  if (targets.size() * 16 < start.size()) {
+    std::sort(targets.begin(), targets.end());
+  } else {
+    targets.clear();
+    for (std::uint32_t id = 0; id < start.size(); ++id)
+      if (start[id] != 0) targets.push_back(id);
+  }
+  std::uint32_t offset = 0;
+  for (std::uint32_t id : targets) {
+    const std::uint32_t count = start[id];
+    start[id] = offset;
+    offset += count;
+  }
+  std::vector<PendingEvent>& sorted = scratch.sorted;
+  sorted.resize(bucket.size());
+  for (const PendingEvent& e : bucket) sorted[start[e.target]++] = e;
+  // start[id] is now the end of target id's events; its start is the previous target's end.
+  for (auto& r : scratch.runs) r.clear();
+  std::size_t begin = 0;
+  std::uint32_t population = 0;  // of the target: targets come in increasing id order
+  for (std::uint32_t id : targets) {
+    while (id >= group_offset[population + 1]) ++population;
+    const std::size_t end = start[id];
+    start[id] = 0;
+    // Most targets receive a few events per window: insertion sort; long lists use std::sort.
+    if (end - begin <= 32) {
+      for (std::size_t i = begin + 1; i < end; ++i) {
+        PendingEvent e = sorted[i];
+        std::size_t j = i;
+        for (; j > begin && TargetEventOrder{}(e, sorted[j - 1]); --j) sorted[j] = sorted[j - 1];
+        sorted[j] = e;
+      }
+    } else {
+      std::sort(sorted.begin() + static_cast<std::ptrdiff_t>(begin), sorted.begin() + static_cast<std::ptrdiff_t>(end),
+                TargetEventOrder{});
+    }
+    scratch.runs[population].push_back({id - group_offset[population], begin, end});
+    begin = end;
+  }
+}
+
 // The number of windows that cover [0, duration), each ending at (w + 1) * window and
 // the last at the duration. Never silently 0: a count that cannot be held exactly
 // (a tiny window against a huge or infinite duration) is refused. Model checks
@@ -299,6 +367,7 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
   scratch.sample_slots.resize(n_pop);
   scratch.next_sample.assign(s.traces.size(), 0);
   scratch.runs.resize(n_pop);
+  scratch.target_start.assign(s.group_offset[n_pop], 0);
   scratch.changes.resize(s.weight_recorders.size());
   s.next_reward.resize(net.pathways.size(), 0);
   s.next_normalisation.resize(net.pathways.size(), 1);  // the first normalisation after one interval
@@ -327,9 +396,8 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
     s.currents.take_until(t_end, [&](const CurrentChange& c) {
       PendingEvent e;
       e.time = c.time;
-      e.amount = c.delta;
-      e.population = c.population;
-      e.neuron = c.neuron;
+      e.payload = std::bit_cast<std::uint64_t>(c.delta);
+      e.target = s.group_offset[c.population] + c.neuron;
       e.pathway = c.sequence;
       e.kind = InputKind::current_change;
       bucket.push_back(e);
@@ -347,10 +415,9 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
         for (std::uint32_t n : trace.neurons) {
           PendingEvent e;
           e.time = t;
-          e.population = trace.population;
-          e.neuron = n;
+          e.target = s.group_offset[trace.population] + n;
           e.pathway = tr;
-          e.slot = slot++;
+          e.order = slot++;
           e.kind = InputKind::sample;
           bucket.push_back(e);
         }
@@ -361,15 +428,8 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
       if (scratch.samples[p].size() < need) scratch.samples[p].resize(need);
     }
 
-    std::sort(bucket.begin(), bucket.end(), EventOrder{});
-    for (auto& r : scratch.runs) r.clear();
-    for (std::size_t e = 0; e < bucket.size();) {
-      std::size_t end = e;
-      while (end < bucket.size() && bucket[end].population == bucket[e].population && bucket[end].neuron == bucket[e].neuron)
-        ++end;
-      scratch.runs[bucket[e].population].push_back({bucket[e].neuron, e, end});
-      e = end;
-    }
+    group_by_target(bucket, s.group_offset, scratch);
+    const std::vector<PendingEvent>& events = scratch.sorted;
     gather_globals(s, t_end, scratch.globals);
 
     // The window is cut at the times of global events into segments; in each, every
@@ -389,7 +449,7 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
         std::vector<NeuronRun>& runs = scratch.runs[p];
         std::size_t a = 0, r = 0;
         for (;;) {
-          while (r < runs.size() && (runs[r].next == runs[r].end || bucket[runs[r].next].time >= segment_end)) ++r;
+          while (r < runs.size() && (runs[r].next == runs[r].end || events[runs[r].next].time >= segment_end)) ++r;
           const bool has_event = r < runs.size();
           const bool has_due = a < due.size();
           if (!has_event && !has_due) break;
@@ -407,18 +467,20 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
           scratch.inputs.clear();
           if (has_event && runs[r].neuron == n) {
             NeuronRun& run = runs[r];
-            for (; run.next < run.end && bucket[run.next].time < segment_end; ++run.next) {
-              const PendingEvent& ev = bucket[run.next];
+            for (; run.next < run.end && events[run.next].time < segment_end; ++run.next) {
+              const PendingEvent& ev = events[run.next];
               NeuronInput in;
               in.time = ev.time;
               in.kind = ev.kind;
-              in.slot = ev.slot;
-              in.amount = ev.amount;
               if (ev.kind == InputKind::synaptic) {
                 in.pathway = ev.pathway;
-                in.synapse = ev.synapse;
+                in.synapse = ev.payload;
                 in.receptor = net.pathways[ev.pathway].receptor;
                 ++summary.synaptic_events;
+              } else if (ev.kind == InputKind::current_change) {
+                in.amount = std::bit_cast<double>(ev.payload);
+              } else {
+                in.slot = ev.order;
               }
               scratch.inputs.push_back(in);
             }
@@ -507,16 +569,16 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
       for (std::uint32_t path_id : s.outgoing[sp.group]) {
         const Pathway& path = net.pathways[path_id];
         const SynapseStore& st = path.synapses;
+        const std::uint32_t target_offset = s.group_offset[path.target];
         for (std::uint64_t k = st.begin(sp.index); k < st.end(sp.index); ++k) {
           const double arrival = sp.time + st.delay[k];
           if (arrival >= s.duration) continue;
           const auto target_window = std::max<std::uint64_t>(w + 1, static_cast<std::uint64_t>(arrival / s.window));
           PendingEvent ev;
           ev.time = arrival;
-          ev.synapse = k;
-          ev.population = path.target;
-          ev.neuron = st.post[k];
-          ev.source = sp.gid;
+          ev.payload = k;
+          ev.target = target_offset + st.post[k];
+          ev.order = sp.gid;
           ev.pathway = path_id;
           ev.kind = InputKind::synaptic;
           s.ring[target_window % ring_size].push_back(ev);

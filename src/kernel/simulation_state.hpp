@@ -7,18 +7,21 @@
 
 namespace nvsyn {
 
-// An event waiting for delivery to one neuron.
+// An event waiting for delivery to one neuron: 32 bytes. The target's population and
+// neuron follow from the group-global id (State::group_offset).
 struct PendingEvent {
   double time = 0.0;
-  double amount = 0.0;            // A, for current changes
-  std::uint64_t synapse = 0;      // index in the pathway's store, for synaptic events
-  std::uint32_t population = 0;   // target
-  std::uint32_t neuron = 0;       // target, within its population
-  std::uint32_t source = 0;       // emitting group-global id (tie-breaking)
-  std::uint32_t pathway = 0;      // or sequence number of a current change / trace
-  std::uint32_t slot = 0;         // sample slot
+  // Synaptic event: synapse index in the pathway's store; current change: the bits of
+  // its amount (A, std::bit_cast); sample: 0.
+  std::uint64_t payload = 0;
+  std::uint32_t target = 0;   // group-global id of the target neuron
+  // Synaptic event: emitting group-global id; sample: its slot; current change: 0.
+  // Second key at equal times (after kind): see TargetEventOrder in simulation.cpp.
+  std::uint32_t order = 0;
+  std::uint32_t pathway = 0;  // or sequence number of a current change, or trace of a sample
   InputKind kind = InputKind::synaptic;
 };
+static_assert(sizeof(PendingEvent) <= 32, "events are copied twice per window: keep them small");
 
 struct Simulation::State {
   Network network;
