@@ -4,7 +4,9 @@
 // For each preset, an array of `--devices` devices (default 10^6) takes
 // `--operations` single pulses (random device, random polarity), then as many
 // noisy reads (random device) at a later time, so drift and read noise are
-// evaluated. Devices are visited in a random order fixed before timing, so caches
+// evaluated; then the same devices, grouped into synapses of the preset's default
+// layout, take as many synapse reads (random synapse; a differential pair reads
+// both of its devices). Devices are visited in a random order fixed before timing, so caches
 // and prefetchers see what a large network's scattered synapse updates look like.
 // Each measurement is repeated and the fastest repetition is reported (common
 // practice for throughput measurements on a shared machine).
@@ -70,7 +72,7 @@ double seconds_since(std::chrono::steady_clock::time_point start) {
 
 struct Row {
   std::string preset, model, layout;
-  double pulses_per_s = 0, reads_per_s = 0;
+  double pulses_per_s = 0, reads_per_s = 0, synapse_reads_per_s = 0;
   std::size_t devices_per_synapse = 1;
 };
 
@@ -87,7 +89,8 @@ Row measure(const nvsyn::DevicePreset& preset, const Options& o, const std::vect
   row.layout = std::string(nvsyn::synapse_layout_name(layout.layout));
   row.devices_per_synapse = layout.devices();
 
-  double best_pulse = 1e300, best_read = 1e300;
+  double best_pulse = 1e300, best_read = 1e300, best_synapse_read = 1e300;
+  const std::size_t synapses = std::max<std::size_t>(1, o.devices / layout.devices());
   double sink = 0;
   for (int r = 0; r < o.repeats; ++r) {
     DeviceArray array(params, o.devices, 1 + static_cast<std::uint64_t>(r), 0);
@@ -99,12 +102,17 @@ Row measure(const nvsyn::DevicePreset& preset, const Options& o, const std::vect
     start = std::chrono::steady_clock::now();
     for (std::size_t k = 0; k < o.operations; ++k) sink += array.read(order[o.operations - 1 - k], t_read);
     best_read = std::min(best_read, seconds_since(start));
+    nvsyn::SynapseDevices synapse_array(params, layout, synapses, 1 + static_cast<std::uint64_t>(r), 0);
+    start = std::chrono::steady_clock::now();
+    for (std::size_t k = 0; k < o.operations; ++k) sink += synapse_array.read_weight(order[k] % synapses, t_read);
+    best_synapse_read = std::min(best_synapse_read, seconds_since(start));
   }
   // Using the results keeps the compiler from dropping the loops; every read and
   // every change of conductance is finite for a valid preset.
   if (!std::isfinite(sink)) fmt::print(stderr, "warning: {}: non-finite conductances\n", preset.name);
   row.pulses_per_s = static_cast<double>(o.operations) / best_pulse;
   row.reads_per_s = static_cast<double>(o.operations) / best_read;
+  row.synapse_reads_per_s = static_cast<double>(o.operations) / best_synapse_read;
   return row;
 }
 
@@ -136,15 +144,15 @@ int main(int argc, char** argv) {
   fmt::print("device throughput: {} devices per array, {} pulses and {} reads per measurement, best of {}, "
              "random device order\n",
              o.devices, o.operations, o.operations, o.repeats);
-  fmt::print("{:<28} {:<24} {:>12} {:>12} {:>13} {:<16} {:>14}\n", "preset", "model", "pulses/s", "reads/s",
-             "bytes/device", "layout", "bytes/synapse");
+  fmt::print("{:<28} {:<24} {:>12} {:>12} {:>15} {:>13} {:<16} {:>14}\n", "preset", "model", "pulses/s", "reads/s",
+             "syn_reads/s", "bytes/device", "layout", "bytes/synapse");
   try {
     for (const auto& file : files) {
       const nvsyn::DevicePreset preset = nvsyn::read_device_preset_file(file);
       const Row r = measure(preset, o, order, polarity);
-      fmt::print("{:<28} {:<24} {:>12.3g} {:>12.3g} {:>13} {:<16} {:>14}\n", r.preset, r.model, r.pulses_per_s,
-                 r.reads_per_s, bytes, fmt::format("{} x{}", r.layout, r.devices_per_synapse),
-                 bytes * r.devices_per_synapse);
+      fmt::print("{:<28} {:<24} {:>12.3g} {:>12.3g} {:>15.3g} {:>13} {:<16} {:>14}\n", r.preset, r.model,
+                 r.pulses_per_s, r.reads_per_s, r.synapse_reads_per_s, bytes,
+                 fmt::format("{} x{}", r.layout, r.devices_per_synapse), bytes * r.devices_per_synapse);
     }
   } catch (const nvsyn::UserError& e) {
     fmt::print(stderr, "{}\n", e.what());
