@@ -8,6 +8,9 @@ function(nvsyn_require found_var what package)
   endif()
 endfunction()
 
+# Threads of the event loop (kernel/worker_team.hpp).
+find_package(Threads REQUIRED)
+
 find_package(Boost 1.74 QUIET)
 nvsyn_require(Boost_FOUND "Boost (Odeint headers) >= 1.74" libboost-dev)
 

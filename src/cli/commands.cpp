@@ -137,13 +137,13 @@ void write_learning_records(RunWriter& writer, const Simulation& sim, double t_e
     LearningRecord r;
     r.pathway = path.name;
     r.rule = std::string(path.rule->name());
-    r.updates = ledger.total_updates;
-    r.pulses = ledger.total_pulses;
-    r.routed_partner = ledger.routed_partner;
-    r.unrealisable = ledger.unrealisable;
-    r.sum_requested = ledger.sum_requested;
-    r.sum_realised = ledger.sum_realised;
-    r.sum_squared_error = ledger.sum_squared_error;
+    r.updates = ledger.totals.updates;
+    r.pulses = ledger.totals.pulses;
+    r.routed_partner = ledger.totals.routed_partner;
+    r.unrealisable = ledger.totals.unrealisable;
+    r.sum_requested = ledger.totals.sum_requested;
+    r.sum_realised = ledger.totals.sum_realised;
+    r.sum_squared_error = ledger.totals.sum_squared_error;
     r.requested = ledger.requested;
     r.realised = ledger.realised;
     r.final_weight = final_weight;
@@ -225,6 +225,7 @@ int run_command(const RunOptions& options) {
   BuildOptions build;
   build.seed = options.seed;
   build.allow_large_run = options.overrides.allow_large_run;
+  build.threads = options.threads;
   if (options.duration) build.duration = parse_duration_option(*options.duration, model.ranges.get());
   // The output is checked against every file the model names before any work starts.
   const CheckedOutput output = check_output_file(options.output, options.force, model.input_files());
@@ -237,7 +238,7 @@ int run_command(const RunOptions& options) {
   // is thrown again once the file is in place. Failures before the run leave nothing.
   std::exception_ptr run_failure;
   write_then_rename(output, [&](const std::string& partial) {
-    RunHeader header{NVSYN_VERSION, sim.seed(), sim.duration(), model.text, model.file};
+    RunHeader header{NVSYN_VERSION, sim.seed(), sim.duration(), model.text, model.file, sim.threads()};
     RunWriter writer(partial, header);
     try {
       write_network(writer, sim, model.record.connectivity);
@@ -411,6 +412,10 @@ Subcommand register_run(CLI::App& app) {
   auto* seed_opt = cmd->add_option("--seed", args->seed, "Override the model's random seed");
   auto* duration_opt = cmd->add_option("--duration", args->duration, "Override the model time to simulate, e.g. \"2 s\"");
   cmd->add_flag("-q,--quiet", args->run.quiet, "Print no per-population summary at the end");
+  cmd->add_option("--threads", args->run.threads,
+                  "Threads of the event loop (default: every core this process may use); spikes and weights are "
+                  "identical for any count")
+      ->check(CLI::Range(1u, 4096u));
   add_override_flags(*cmd, args->run.overrides);
   return {cmd, [args, seed_opt, duration_opt] {
             args->run.output = args->output.path.value_or("");

@@ -21,6 +21,7 @@ struct RunOptions {
   std::optional<std::uint64_t> seed;
   std::optional<std::string> duration;  // quantity text, e.g. "2 s"
   bool quiet = false;
+  unsigned threads = 0;  // --threads; 0: every core
   LimitOverrides overrides;
 };
 

@@ -349,12 +349,16 @@ Simulation Simulation::build(const Model& model, const BuildOptions& options) {
                     format_quantity(d_min, Dimension::time), format_quantity(d_max, Dimension::time), buckets,
                     format_bytes(ring_bytes), format_bytes(physical)));
   s->ring.resize(static_cast<std::size_t>(buckets));
-  s->calendar.reserve(s->network.populations.size());
-  for (std::uint32_t p = 0; p < s->network.populations.size(); ++p) {
-    const NeuronBank& g = *s->network.populations[p].neurons;
-    WakeCalendar& calendar = s->calendar.emplace_back(g.size());
-    for (std::uint32_t n = 0; n < g.size(); ++n) calendar.set(n, g.earliest_threshold_time(n));
+  std::vector<std::uint32_t> sizes;
+  for (const Population& pop : s->network.populations) sizes.push_back(pop.neurons->size());
+  s->blocks = partition_into_blocks(sizes);
+  s->block_calendar.reserve(s->blocks.size());
+  for (const NeuronBlock& block : s->blocks) {
+    const NeuronBank& g = *s->network.populations[block.population].neurons;
+    WakeCalendar& calendar = s->block_calendar.emplace_back(block.count);
+    for (std::uint32_t i = 0; i < block.count; ++i) calendar.set(i, g.earliest_threshold_time(block.first + i));
   }
+  s->threads = options.threads > 0 ? options.threads : default_thread_count();
   Simulation sim(std::move(s));
   check_run_cost(estimate_run_cost(sim), sim, model, options);
   return sim;

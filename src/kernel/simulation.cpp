@@ -4,12 +4,14 @@
 #include <bit>
 #include <chrono>
 #include <cmath>
+#include <exception>
 #include <fmt/format.h>
 #include <tuple>
 
 #include "core/error.hpp"
 #include "core/run_failure.hpp"
 #include "kernel/simulation_state.hpp"
+#include "kernel/worker_team.hpp"
 
 namespace nvsyn {
 
@@ -24,6 +26,7 @@ const std::vector<TraceStream>& Simulation::traces() const { return state_->trac
 const std::vector<std::uint32_t>& Simulation::recorded_populations() const { return state_->recorded_populations; }
 const std::vector<WeightRecorder>& Simulation::weight_recorders() const { return state_->weight_recorders; }
 std::uint64_t Simulation::seed() const { return state_->seed; }
+unsigned Simulation::threads() const { return state_->threads; }
 double Simulation::duration() const { return state_->duration; }
 double Simulation::window() const { return state_->window; }
 double Simulation::time_reached() const {
@@ -94,13 +97,73 @@ struct TargetEventOrder {
   }
 };
 
-// Reusable buffers of the event loop: allocated once, reused every window.
-struct Scratch {
+// Where the weight updates of one block of neurons (or of one global event) go:
+// the changes that recorders log, and the pathway-wide counts and sums. Kept per
+// block and merged in block order (kernel/neuron_blocks.hpp).
+struct UpdateSink {
+  std::vector<std::vector<WeightChange>> changes;  // per recorder
+  std::vector<LedgerTotals> totals;                // per pathway
+  std::vector<std::uint8_t> listed;                // per pathway: in `updated`
+  std::vector<std::uint32_t> updated;              // pathways whose totals may be non-zero
+
+  void resize(std::size_t recorders, std::size_t pathways) {
+    changes.resize(recorders);
+    totals.resize(pathways);
+    listed.resize(pathways, 0);
+  }
+  LedgerTotals& totals_for(std::uint32_t path_id) {
+    if (!listed[path_id]) {
+      listed[path_id] = 1;
+      updated.push_back(path_id);
+    }
+    return totals[path_id];
+  }
+  // Adds the totals to the pathways' ledgers and the changes to `window_changes`
+  // (per recorder), and empties the sink.
+  void merge_into(Network& network, std::vector<std::vector<WeightChange>>& window_changes) {
+    for (std::uint32_t id : updated) {
+      Pathway& p = network.pathways[id];
+      if (p.devices) p.policy->merge_totals(totals[id]);
+      else p.plain_ledger.totals.merge(totals[id]);
+      totals[id] = {};
+      listed[id] = 0;
+    }
+    updated.clear();
+    for (std::size_t r = 0; r < changes.size(); ++r) {
+      if (changes[r].empty()) continue;
+      window_changes[r].insert(window_changes[r].end(), changes[r].begin(), changes[r].end());
+      changes[r].clear();
+    }
+  }
+};
+
+// What the neurons of one block produced. Spikes and the event count gather over the
+// window, updates over one segment.
+struct alignas(64) BlockOutput {
+  std::vector<WindowSpike> spikes;
+  std::uint64_t synaptic_events = 0;
+  UpdateSink updates;
+  std::exception_ptr failure;  // the first failure of the block's neurons, if any
+  // Range of the block's neurons in the window's NeuronRun list of its population.
+  std::size_t runs_begin = 0, runs_end = 0;
+};
+
+// Buffers of one thread, reused for every neuron it processes. Aligned to a cache
+// line, like BlockOutput, so that threads never write to one line (false sharing).
+struct alignas(64) WorkerScratch {
   std::vector<NeuronInput> inputs;
   std::vector<double> neuron_spikes;
+  std::vector<std::uint32_t> due;  // neurons whose wake-up time falls in the segment
+};
+
+// Reusable buffers of the event loop: allocated once, reused every window.
+struct Scratch {
+  std::vector<WorkerScratch> workers;
+  std::vector<BlockOutput> blocks;
+  std::vector<std::uint32_t> active;  // blocks with work in the present segment
+  UpdateSink global_updates;          // of the global events (serial)
   std::vector<WindowSpike> spikes;
   std::vector<SourceSpike> source_spikes;
-  std::vector<std::uint32_t> due;  // neurons whose wake-up time falls in the segment
   std::vector<std::vector<double>> samples;  // per population
   std::vector<std::uint32_t> sample_slots;   // per population: slots used this window
   std::vector<SampleRow> sample_rows;
@@ -121,7 +184,7 @@ struct Scratch {
 
 // Applies a requested change of |w| to synapse k: through the programming policy
 // and devices, or to the floating-point weight within [0, w_max].
-UpdateOutcome apply_change(Simulation::State& s, Scratch& scratch, std::uint32_t path_id, std::uint64_t k, double dw,
+UpdateOutcome apply_change(Simulation::State& s, UpdateSink& sink, std::uint32_t path_id, std::uint64_t k, double dw,
                            double t) {
   Pathway& p = s.network.pathways[path_id];
   // A non-finite request (a trace or rule parameter that overflowed) must not reach
@@ -133,7 +196,7 @@ UpdateOutcome apply_change(Simulation::State& s, Scratch& scratch, std::uint32_t
                      t);
   UpdateOutcome out;
   if (p.devices) {
-    out = p.policy->apply(*p.devices, k, dw, t);
+    out = p.policy->apply(*p.devices, k, dw, t, &sink.totals_for(path_id));
     // The realised change is the difference of the synapse's programmed weights
     // before and after: non-finite if any conductance it reads became so.
     if (!std::isfinite(out.realised)) [[unlikely]]
@@ -148,18 +211,20 @@ UpdateOutcome apply_change(Simulation::State& s, Scratch& scratch, std::uint32_t
     out.requested = dw;
     out.realised = after - before;
     out.route = out.realised != 0.0 ? UpdateRoute::direct : UpdateRoute::none;
-    p.plain_ledger.add(k, out);
+    p.plain_ledger.add_to_synapse(k, out);
+    sink.totals_for(path_id).add(out);
   }
   for (std::uint32_t r : s.change_recorders[path_id])
-    if (s.weight_recorders[r].position[k] >= 0) scratch.changes[r].push_back({t, k, out.requested, out.realised, static_cast<std::uint8_t>(out.route)});
+    if (s.weight_recorders[r].position[k] >= 0)
+      sink.changes[r].push_back({t, k, out.requested, out.realised, static_cast<std::uint8_t>(out.route)});
   return out;
 }
 
 // What the neuron models call back while they work through a window.
 class KernelHooks final : public SpikeHooks {
  public:
-  KernelHooks(Simulation::State& s, Scratch& scratch, std::uint32_t population)
-      : s_(s), scratch_(scratch), population_(population) {}
+  KernelHooks(Simulation::State& s, UpdateSink& sink, std::uint32_t population)
+      : s_(s), sink_(sink), population_(population) {}
 
   double synaptic_amount(std::uint32_t neuron, const NeuronInput& in) override {
     Pathway& p = s_.network.pathways[in.pathway];
@@ -172,7 +237,7 @@ class KernelHooks final : public SpikeHooks {
     // ... then the rule may change it.
     if (p.rule) {
       const double dw = p.rule->on_pre(k, neuron, in.time, p.magnitude(k));
-      if (dw != 0.0 && p.learning_at(in.time)) apply_change(s_, scratch_, in.pathway, k, dw, in.time);
+      if (dw != 0.0 && p.learning_at(in.time)) apply_change(s_, sink_, in.pathway, k, dw, in.time);
     }
     return w;
   }
@@ -184,7 +249,7 @@ class KernelHooks final : public SpikeHooks {
       for (std::uint64_t i = p.incoming_begin[neuron]; i < p.incoming_begin[neuron + 1]; ++i) {
         const std::uint64_t k = p.incoming[i];
         const double dw = p.rule->on_post(k, neuron, t, p.magnitude(k));
-        if (dw != 0.0 && learning) apply_change(s_, scratch_, id, k, dw, t);
+        if (dw != 0.0 && learning) apply_change(s_, sink_, id, k, dw, t);
       }
       p.rule->post_spike_end(neuron, t);
     }
@@ -192,7 +257,7 @@ class KernelHooks final : public SpikeHooks {
 
  private:
   Simulation::State& s_;
-  Scratch& scratch_;
+  UpdateSink& sink_;
   std::uint32_t population_;
 };
 
@@ -230,7 +295,7 @@ void gather_globals(Simulation::State& s, double t_end, std::vector<GlobalEvent>
 
 // Scales the incoming weights of every target neuron so that their magnitudes sum
 // to normalise_total; each change goes through the pathway's policy and devices.
-void normalise(Simulation::State& s, Scratch& scratch, std::uint32_t id, double t) {
+void normalise(Simulation::State& s, UpdateSink& sink, std::uint32_t id, double t) {
   Pathway& p = s.network.pathways[id];
   if (p.incoming_begin.empty()) return;
   for (std::uint32_t j = 0; j + 1 < p.incoming_begin.size(); ++j) {
@@ -241,7 +306,7 @@ void normalise(Simulation::State& s, Scratch& scratch, std::uint32_t id, double 
     for (std::uint64_t i = p.incoming_begin[j]; i < p.incoming_begin[j + 1]; ++i) {
       const std::uint64_t k = p.incoming[i];
       const double w = p.magnitude(k);
-      apply_change(s, scratch, id, k, w * factor - w, t);
+      apply_change(s, sink, id, k, w * factor - w, t);
     }
   }
 }
@@ -253,12 +318,12 @@ void apply_global(Simulation::State& s, Scratch& scratch, RunObserver& observer,
       if (!p.learning_at(g.time)) return;
       for (std::uint64_t k = 0; k < p.synapses.size(); ++k) {
         const double dw = p.rule->on_reward(k, g.time, g.value);
-        if (dw != 0.0) apply_change(s, scratch, g.index, k, dw, g.time);
+        if (dw != 0.0) apply_change(s, scratch.global_updates, g.index, k, dw, g.time);
       }
       return;
     }
     case GlobalKind::normalisation:
-      if (s.network.pathways[g.index].learning_at(g.time)) normalise(s, scratch, g.index, g.time);
+      if (s.network.pathways[g.index].learning_at(g.time)) normalise(s, scratch.global_updates, g.index, g.time);
       return;
     case GlobalKind::weight_sample:
     case GlobalKind::snapshot: {
@@ -333,6 +398,91 @@ void group_by_target(const std::vector<PendingEvent>& bucket, const std::vector<
   }
 }
 
+// Finds each block's neurons in the window's NeuronRun lists (sorted by neuron).
+void assign_runs_to_blocks(const std::vector<NeuronBlock>& blocks, Scratch& scratch) {
+  std::size_t cursor = 0;
+  for (std::size_t b = 0; b < blocks.size(); ++b) {
+    const NeuronBlock& block = blocks[b];
+    if (b == 0 || blocks[b - 1].population != block.population) cursor = 0;
+    const std::vector<NeuronRun>& runs = scratch.runs[block.population];
+    BlockOutput& out = scratch.blocks[b];
+    out.runs_begin = cursor;
+    while (cursor < runs.size() && runs[cursor].neuron - block.first < block.count) ++cursor;
+    out.runs_end = cursor;
+  }
+}
+
+// Processes, in neuron order, the neurons of block b that have input before
+// segment_end or whose wake-up time lies before it. Runs on any thread: it touches
+// only the block's neurons, their incoming synapses and `out`. Returns early when a
+// stop is requested (setting `stopped`: the window is then abandoned) and at the
+// block's first failure, kept in out.failure for the caller to report in block order.
+void process_block(Simulation::State& s, std::uint32_t b, double segment_end, const std::vector<PendingEvent>& events,
+                   std::vector<NeuronRun>& runs, std::vector<double>& samples, BlockOutput& out, WorkerScratch& w,
+                   const std::atomic<bool>* stop, std::atomic<bool>& stopped) {
+  const NeuronBlock& block = s.blocks[b];
+  const std::uint32_t p = block.population;
+  NeuronBank& group = *s.network.populations[p].neurons;
+  const std::vector<Pathway>& pathways = s.network.pathways;
+  WakeCalendar& calendar = s.block_calendar[b];
+  KernelHooks hooks(s, out.updates, p);
+  w.due.clear();
+  calendar.take_before(segment_end, w.due);  // indices within the block
+  std::size_t a = 0, r = out.runs_begin;
+  try {
+    for (;;) {
+      while (r < out.runs_end && (runs[r].next == runs[r].end || events[runs[r].next].time >= segment_end)) ++r;
+      const bool has_event = r < out.runs_end;
+      const bool has_due = a < w.due.size();
+      if (!has_event && !has_due) break;
+      // A window can hold long work (many spikes, each updating many synapses): a
+      // stop request is honoured between neurons, not only between windows.
+      if ((stop && stop->load(std::memory_order_relaxed)) || stopped.load(std::memory_order_relaxed)) {
+        stopped.store(true, std::memory_order_relaxed);
+        return;
+      }
+      const std::uint32_t due_neuron = has_due ? block.first + w.due[a] : 0;
+      const std::uint32_t n = has_event && (!has_due || runs[r].neuron <= due_neuron) ? runs[r].neuron : due_neuron;
+      if (has_due && due_neuron == n) ++a;
+
+      w.inputs.clear();
+      if (has_event && runs[r].neuron == n) {
+        NeuronRun& run = runs[r];
+        for (; run.next < run.end && events[run.next].time < segment_end; ++run.next) {
+          const PendingEvent& ev = events[run.next];
+          NeuronInput in;
+          in.time = ev.time;
+          in.kind = ev.kind;
+          if (ev.kind == InputKind::synaptic) {
+            in.pathway = ev.pathway;
+            in.synapse = ev.payload;
+            in.receptor = pathways[ev.pathway].receptor;
+            ++out.synaptic_events;
+          } else if (ev.kind == InputKind::current_change) {
+            in.amount = std::bit_cast<double>(ev.payload);
+          } else {
+            in.slot = ev.order;
+          }
+          w.inputs.push_back(in);
+        }
+        ++r;
+      }
+      w.neuron_spikes.clear();
+      group.process(n, w.inputs, segment_end, w.neuron_spikes, samples, hooks);
+      for (double t : w.neuron_spikes) out.spikes.push_back({t, s.group_offset[p] + n, p, n});
+      calendar.set(n - block.first, group.earliest_threshold_time(n));
+    }
+  } catch (const RunFailure& e) {
+    // Failures of learning and devices already name their pathway; those of the
+    // neuron model get its population.
+    out.failure = e.where().starts_with("pathway ")
+                      ? std::current_exception()
+                      : std::make_exception_ptr(e.within(fmt::format("population '{}'", s.network.populations[p].name)));
+  } catch (...) {
+    out.failure = std::current_exception();
+  }
+}
+
 // The number of windows that cover [0, duration), each ending at (w + 1) * window and
 // the last at the duration. Never silently 0: a count that cannot be held exactly
 // (a tiny window against a huge or infinite duration) is refused. Model checks
@@ -369,6 +519,12 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
   scratch.runs.resize(n_pop);
   scratch.target_start.assign(s.group_offset[n_pop], 0);
   scratch.changes.resize(s.weight_recorders.size());
+  scratch.blocks.resize(s.blocks.size());
+  for (BlockOutput& out : scratch.blocks) out.updates.resize(s.weight_recorders.size(), net.pathways.size());
+  scratch.global_updates.resize(s.weight_recorders.size(), net.pathways.size());
+  if (!s.team) s.team = std::make_unique<WorkerTeam>(s.threads);
+  WorkerTeam& team = *s.team;
+  scratch.workers.resize(team.size());
   s.next_reward.resize(net.pathways.size(), 0);
   s.next_normalisation.resize(net.pathways.size(), 1);  // the first normalisation after one interval
   s.next_weight_sample.resize(s.weight_recorders.size(), 0);
@@ -429,85 +585,56 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
     }
 
     group_by_target(bucket, s.group_offset, scratch);
-    const std::vector<PendingEvent>& events = scratch.sorted;
     gather_globals(s, t_end, scratch.globals);
 
+    assign_runs_to_blocks(s.blocks, scratch);
     // The window is cut at the times of global events into segments; in each, every
     // neuron with input there, or whose wake-up time falls before the segment's end,
-    // is processed, in neuron index order; afterwards its wake-up time is predicted
-    // again from its new state.
+    // is processed, in neuron index order within its block, blocks shared among the
+    // threads; afterwards its wake-up time is predicted again from its new state.
+    // What the blocks produced is then merged in block order.
     scratch.spikes.clear();
-    for (std::size_t g = 0; g <= scratch.globals.size() && !stopped_inside; ++g) {
+    for (std::size_t g = 0; g <= scratch.globals.size(); ++g) {
       const double segment_end = g < scratch.globals.size() ? scratch.globals[g].time : t_end;
-      for (std::uint32_t p = 0; p < n_pop && !stopped_inside; ++p) {
-        NeuronBank& group = *net.populations[p].neurons;
-        KernelHooks hooks(s, scratch, p);
-        WakeCalendar& calendar = s.calendar[p];
-        std::vector<std::uint32_t>& due = scratch.due;
-        due.clear();
-        calendar.take_before(segment_end, due);
-        std::vector<NeuronRun>& runs = scratch.runs[p];
-        std::size_t a = 0, r = 0;
-        for (;;) {
-          while (r < runs.size() && (runs[r].next == runs[r].end || events[runs[r].next].time >= segment_end)) ++r;
-          const bool has_event = r < runs.size();
-          const bool has_due = a < due.size();
-          if (!has_event && !has_due) break;
-          // A window can hold long work (many spikes, each updating many synapses):
-          // a stop request is honoured between neurons, not only between windows.
-          if (stop_requested()) {
-            stopped_inside = true;
-            break;
-          }
-          std::uint32_t n;
-          if (has_event && (!has_due || runs[r].neuron <= due[a])) n = runs[r].neuron;
-          else n = due[a];
-          if (has_due && due[a] == n) ++a;
-
-          scratch.inputs.clear();
-          if (has_event && runs[r].neuron == n) {
-            NeuronRun& run = runs[r];
-            for (; run.next < run.end && events[run.next].time < segment_end; ++run.next) {
-              const PendingEvent& ev = events[run.next];
-              NeuronInput in;
-              in.time = ev.time;
-              in.kind = ev.kind;
-              if (ev.kind == InputKind::synaptic) {
-                in.pathway = ev.pathway;
-                in.synapse = ev.payload;
-                in.receptor = net.pathways[ev.pathway].receptor;
-                ++summary.synaptic_events;
-              } else if (ev.kind == InputKind::current_change) {
-                in.amount = std::bit_cast<double>(ev.payload);
-              } else {
-                in.slot = ev.order;
-              }
-              scratch.inputs.push_back(in);
-            }
-            ++r;
-          }
-          scratch.neuron_spikes.clear();
-          try {
-            group.process(n, scratch.inputs, segment_end, scratch.neuron_spikes, scratch.samples[p], hooks);
-          } catch (const RunFailure& e) {
-            s.unusable = true;
-            // Failures of learning and devices already name their pathway; those of
-            // the neuron model get its population.
-            if (e.where().starts_with("pathway ")) throw;
-            throw e.within(fmt::format("population '{}'", net.populations[p].name));
-          }
-          for (double t : scratch.neuron_spikes) scratch.spikes.push_back({t, s.group_offset[p] + n, p, n});
-          calendar.set(n, group.earliest_threshold_time(n));
-        }
+      scratch.active.clear();
+      for (std::uint32_t b = 0; b < s.blocks.size(); ++b)
+        if (scratch.blocks[b].runs_begin < scratch.blocks[b].runs_end ||
+            s.block_calendar[b].earliest() < segment_end)
+          scratch.active.push_back(b);
+      std::atomic<bool> stopped{false};
+      team.for_each(scratch.active.size(), [&](std::size_t i, unsigned worker) {
+        const std::uint32_t b = scratch.active[i];
+        process_block(s, b, segment_end, scratch.sorted, scratch.runs[s.blocks[b].population],
+                      scratch.samples[s.blocks[b].population], scratch.blocks[b], scratch.workers[worker], stop,
+                      stopped);
+      });
+      if (stopped.load()) {
+        stopped_inside = true;
+        break;
       }
-      if (!stopped_inside && g < scratch.globals.size()) {
+      for (std::uint32_t b : scratch.active) {
+        BlockOutput& out = scratch.blocks[b];
+        if (out.failure) {
+          s.unusable = true;
+          std::rethrow_exception(out.failure);
+        }
+        out.updates.merge_into(net, scratch.changes);
+      }
+      if (g < scratch.globals.size()) {
         try {
           apply_global(s, scratch, observer, scratch.globals[g]);
         } catch (const RunFailure&) {
           s.unusable = true;
           throw;
         }
+        scratch.global_updates.merge_into(net, scratch.changes);
       }
+    }
+    for (BlockOutput& out : scratch.blocks) {
+      scratch.spikes.insert(scratch.spikes.end(), out.spikes.begin(), out.spikes.end());
+      out.spikes.clear();
+      summary.synaptic_events += out.synaptic_events;
+      out.synaptic_events = 0;
     }
     if (stopped_inside) {
       // The window is abandoned: its spikes, samples and weight changes are not

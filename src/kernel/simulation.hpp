@@ -38,6 +38,9 @@ struct BuildOptions {
   // Accept a run beyond the cost limits (kernel/run_cost.hpp), as the model key
   // [simulation] allow_large_run = true does.
   bool allow_large_run = false;
+  // Threads of the event loop; 0: every core this process may use. Results do not
+  // depend on it (kernel/neuron_blocks.hpp).
+  unsigned threads = 0;
 };
 
 struct InputChannel {
@@ -112,6 +115,7 @@ class Simulation {
   // must not lie in the past of the run. Throws UserError otherwise.
   void add_reward(const std::string& pathway, double t, double r);
   std::uint64_t seed() const;
+  unsigned threads() const;  // of the event loop
   double duration() const;
   double window() const;  // s, the d_min window length
 

@@ -3,7 +3,9 @@
 #include <vector>
 
 #include "kernel/simulation.hpp"
+#include "kernel/neuron_blocks.hpp"
 #include "kernel/wake_calendar.hpp"
+#include "kernel/worker_team.hpp"
 
 namespace nvsyn {
 
@@ -50,7 +52,12 @@ struct Simulation::State {
   // state is then partly ahead of next_window and must not be run further.
   bool unusable = false;
   std::vector<std::vector<PendingEvent>> ring;  // one bucket per future window
-  std::vector<WakeCalendar> calendar;              // per population: when neurons may fire on their own
+  // Fixed blocks of neurons (kernel/neuron_blocks.hpp) and, per block, when its
+  // neurons may fire on their own (indices within the block).
+  std::vector<NeuronBlock> blocks;
+  std::vector<WakeCalendar> block_calendar;
+  unsigned threads = 1;
+  std::unique_ptr<WorkerTeam> team;  // started by the first run
   std::vector<std::size_t> next_reward;            // per pathway: index into its rewards
   std::vector<std::uint64_t> next_normalisation;   // per pathway: k of the next k * interval
   std::vector<std::uint64_t> next_weight_sample;   // per recorder

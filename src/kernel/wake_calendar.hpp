@@ -30,6 +30,9 @@ class WakeCalendar {
     std::push_heap(heap_.begin(), heap_.end(), later);
   }
 
+  // A lower bound of the earliest wake-up time (+infinity when none is pending).
+  double earliest() const { return heap_.empty() ? kNever : heap_.front().time; }
+
   // Removes the neurons whose wake-up time lies before t_end and appends them to
   // `due` in increasing neuron index (each neuron once); their times become
   // +infinity until the caller sets new ones after visiting them.

@@ -69,14 +69,15 @@ bool ProgrammingPolicy::rounds_to_zero(double x_request, double u) const {
   return false;
 }
 
-UpdateOutcome ProgrammingPolicy::apply(SynapseDevices& synapses, std::size_t k, double dw, double t) {
+UpdateOutcome ProgrammingPolicy::apply(SynapseDevices& synapses, std::size_t k, double dw, double t,
+                                       LedgerTotals* totals) {
   UpdateOutcome out;
   out.requested = dw;
   if (synapses.continuous()) {
     const PulseOutcome r = synapses.change_exact(k, dw, t);
     out.realised = r.realised;
     out.route = r.route;
-    record(k, out);
+    record(k, out, totals);
     return out;
   }
   double target = dw;
@@ -85,7 +86,7 @@ UpdateOutcome ProgrammingPolicy::apply(SynapseDevices& synapses, std::size_t k, 
     target = accumulator_[k];
   }
   if (target == 0.0) {
-    record(k, out);
+    record(k, out, totals);
     return out;
   }
   const Polarity dir = target > 0 ? Polarity::potentiate : Polarity::depress;
@@ -121,26 +122,37 @@ UpdateOutcome ProgrammingPolicy::apply(SynapseDevices& synapses, std::size_t k, 
     // The accumulator gives back what was programmed: the nominal steps taken.
     if (p_.rounding == Rounding::accumulate) accumulator_[k] -= (dir == Polarity::potentiate ? 1.0 : -1.0) * n * step;
   }
-  record(k, out);
+  record(k, out, totals);
   return out;
 }
 
-void UpdateLedger::add(std::size_t k, const UpdateOutcome& o) {
+void UpdateLedger::add_to_synapse(std::size_t k, const UpdateOutcome& o) {
   requested[k] += o.requested;
   // Most updates realise nothing; skipping the addition of a zero leaves the same
   // bits (the sums start at +0 and a sum of doubles is -0 only if both terms are)
   // and spares touching realised[k], usually a cache miss.
-  if (o.realised != 0.0) {
-    realised[k] += o.realised;
-    sum_realised += o.realised;
-  }
+  if (o.realised != 0.0) realised[k] += o.realised;
   ++updates[k];
-  ++total_updates;
-  total_pulses += o.pulses;
+}
+
+void LedgerTotals::add(const UpdateOutcome& o) {
+  if (o.realised != 0.0) sum_realised += o.realised;
+  ++updates;
+  pulses += o.pulses;
   if (o.route == UpdateRoute::partner) ++routed_partner;
   if (o.requested != 0.0 && o.route == UpdateRoute::none) ++unrealisable;
   sum_requested += o.requested;
   sum_squared_error += (o.realised - o.requested) * (o.realised - o.requested);
+}
+
+void LedgerTotals::merge(const LedgerTotals& other) {
+  updates += other.updates;
+  pulses += other.pulses;
+  routed_partner += other.routed_partner;
+  unrealisable += other.unrealisable;
+  sum_requested += other.sum_requested;
+  sum_realised += other.sum_realised;
+  sum_squared_error += other.sum_squared_error;
 }
 
 }  // namespace nvsyn

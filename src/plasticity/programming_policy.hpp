@@ -44,17 +44,33 @@ struct UpdateOutcome {
   bool refreshed = false;
 };
 
-// Per-synapse and pathway-wide record of requested versus realised change.
+// Pathway-wide counts and sums of updates. Kept apart from the per-synapse ledger so
+// that the kernel's threads can each gather the totals of a fixed block of neurons and
+// merge them in block order: a sum of doubles depends on its order, and this keeps
+// the order, hence the bits, independent of the thread count.
+struct LedgerTotals {
+  std::uint64_t updates = 0, pulses = 0, routed_partner = 0, unrealisable = 0;
+  double sum_requested = 0, sum_realised = 0, sum_squared_error = 0;
+
+  void add(const UpdateOutcome& o);
+  void merge(const LedgerTotals& other);
+};
+
+// Per-synapse record of requested versus realised change, and the pathway's totals.
 struct UpdateLedger {
   std::vector<double> requested;  // A, per synapse, summed over updates
   std::vector<double> realised;   // A, per synapse
   std::vector<std::uint32_t> updates;
-  std::uint64_t total_updates = 0, total_pulses = 0, routed_partner = 0, unrealisable = 0;
-  double sum_requested = 0, sum_realised = 0, sum_squared_error = 0;
+  LedgerTotals totals;
 
   explicit UpdateLedger(std::size_t synapses = 0)
       : requested(synapses, 0.0), realised(synapses, 0.0), updates(synapses, 0) {}
-  void add(std::size_t k, const UpdateOutcome& o);
+  // Records an update in the per-synapse arrays only (the caller keeps the totals).
+  void add_to_synapse(std::size_t k, const UpdateOutcome& o);
+  void add(std::size_t k, const UpdateOutcome& o) {
+    add_to_synapse(k, o);
+    totals.add(o);
+  }
 };
 
 class ProgrammingPolicy {
@@ -62,7 +78,12 @@ class ProgrammingPolicy {
   ProgrammingPolicy(const PolicyParameters& params, std::size_t synapses, std::uint64_t seed,
                     std::uint32_t pathway_id);
 
-  UpdateOutcome apply(SynapseDevices& synapses, std::size_t k, double dw, double t);
+  // Programs a requested change dw (A) of synapse k. The update is recorded in the
+  // per-synapse ledger, and its counts and sums in `totals` (the ledger's own totals
+  // when null; see LedgerTotals for why a caller keeps its own).
+  UpdateOutcome apply(SynapseDevices& synapses, std::size_t k, double dw, double t, LedgerTotals* totals = nullptr);
+  // Adds totals gathered by a caller of apply() to the ledger's.
+  void merge_totals(const LedgerTotals& totals) { ledger_.totals.merge(totals); }
   // Hint that synapse k will be updated soon: starts loading its ledger entries, so a
   // caller walking scattered synapses (all inputs of a neuron that spikes) can overlap
   // their memory latencies. Changes nothing. (Always inlined, see DeviceArray::prefetch.)
@@ -79,7 +100,10 @@ class ProgrammingPolicy {
   }
 
  private:
-  void record(std::size_t k, const UpdateOutcome& o) { ledger_.add(k, o); }
+  void record(std::size_t k, const UpdateOutcome& o, LedgerTotals* totals) {
+    ledger_.add_to_synapse(k, o);
+    (totals ? *totals : ledger_.totals).add(o);
+  }
   // The stochastic-rounding uniform of synapse k's next update.
   double rounding_draw(std::size_t k) const;
   // True when a request of x_request steps (|request| / step) certainly gives no pulse;

@@ -214,6 +214,7 @@ RunWriter::RunWriter(const std::string& path, const RunHeader& header) : impl_(s
   write_string_attr(h5, root, "nvsyn_version", header.nvsyn_version, "/");
   write_string_attr(h5, root, "created", utc_now_iso8601(), "/");
   write_scalar_attr(h5, root, "seed", H5T_STD_U64LE, H5T_NATIVE_UINT64, header.seed, "/");
+  write_scalar_attr(h5, root, "threads", H5T_STD_U32LE, H5T_NATIVE_UINT32, header.threads, "/");
   write_string_attr(h5, root, "status", run_status_name(RunStatus::running), "/");
   write_scalar_attr(h5, root, "duration", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, header.duration, "/");
   write_string_attr(h5, root, "model", header.model_text, "/");

@@ -26,6 +26,7 @@ struct RunHeader {
   double duration = 0.0;   // s, requested model time
   std::string model_text;  // full text of the model file
   std::string model_file;  // path as given
+  std::uint32_t threads = 1;  // of the event loop: provenance, results do not depend on it
 };
 
 struct PathwayRecord {

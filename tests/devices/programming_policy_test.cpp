@@ -47,8 +47,8 @@ TEST_CASE("nearest rounding loses updates smaller than half a step", "[policy]")
   pp.rounding = Rounding::nearest;
   ProgrammingPolicy policy(pp, 1, 1, 0);
   for (int i = 0; i < 1000; ++i) CHECK(policy.apply(syn, 0, 0.49 * step, i).realised == 0.0);
-  CHECK(policy.ledger().sum_requested == Approx(1000 * 0.49 * step));
-  CHECK(policy.ledger().sum_realised == 0.0);
+  CHECK(policy.ledger().totals.sum_requested == Approx(1000 * 0.49 * step));
+  CHECK(policy.ledger().totals.sum_realised == 0.0);
   CHECK(policy.apply(syn, 0, 0.51 * step, 2000).realised == Approx(step));
 }
 

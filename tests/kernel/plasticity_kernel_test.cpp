@@ -129,7 +129,7 @@ TEST_CASE("on a finite-level device every realised change is a whole number of s
   Simulation sim = run(pairing_model(0.005, 400, synapse), c);
   const double step = 0.32e-9 / 32;
   REQUIRE(c.changes.size() > 400);
-  INFO("pulses " << sim.network().pathways[1].ledger().total_pulses << " updates " << sim.network().pathways[1].ledger().total_updates);
+  INFO("pulses " << sim.network().pathways[1].ledger().totals.pulses << " updates " << sim.network().pathways[1].ledger().totals.updates);
   double requested = 0, realised = 0, realised_sq = 0;
   int n = 0;
   for (const auto& ch : c.changes) {
@@ -164,7 +164,7 @@ TEST_CASE("on phase-change devices depression goes through the partner or not at
     }
   }
   CHECK(partner > 0);
-  CHECK(sim.network().pathways[1].ledger().routed_partner == static_cast<std::uint64_t>(partner));
+  CHECK(sim.network().pathways[1].ledger().totals.routed_partner == static_cast<std::uint64_t>(partner));
 }
 
 TEST_CASE("reward-modulated STDP through the kernel: no reward, no change", "[kernel][reward]") {
