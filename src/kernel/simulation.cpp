@@ -7,6 +7,7 @@
 #include <exception>
 #include <fmt/format.h>
 #include <tuple>
+#include <utility>
 
 #include "core/error.hpp"
 #include "core/run_failure.hpp"
@@ -144,8 +145,10 @@ struct alignas(64) BlockOutput {
   std::uint64_t synaptic_events = 0;
   UpdateSink updates;
   std::exception_ptr failure;  // the first failure of the block's neurons, if any
-  // Range of the block's neurons in the window's NeuronRun list of its population.
-  std::size_t runs_begin = 0, runs_end = 0;
+  // The block's neurons that have events this window, in neuron order, and the
+  // grouped events they index (those of the block's TargetPart).
+  std::vector<NeuronRun> runs;
+  const PendingEvent* events = nullptr;
 };
 
 // Buffers of one thread, reused for every neuron it processes. Aligned to a cache
@@ -154,6 +157,15 @@ struct alignas(64) WorkerScratch {
   std::vector<NeuronInput> inputs;
   std::vector<double> neuron_spikes;
   std::vector<std::uint32_t> due;  // neurons whose wake-up time falls in the segment
+};
+
+// A contiguous range of blocks whose events one thread groups by target.
+struct alignas(64) TargetPart {
+  std::uint32_t first_block = 0, end_block = 0;
+  std::uint32_t first_gid = 0, end_gid = 0;  // the blocks' neurons, group-global ids
+  std::vector<std::uint32_t> targets;        // targets with events this window
+  std::vector<std::uint64_t> marks;          // bit per neuron of the range: has events
+  std::vector<PendingEvent> sorted;          // the part's events, grouped by target
 };
 
 // Reusable buffers of the event loop: allocated once, reused every window.
@@ -171,12 +183,10 @@ struct Scratch {
   std::vector<double> spike_times;
   std::vector<std::uint32_t> spike_neurons;
   std::vector<std::uint64_t> next_sample;  // per trace: index of the next sample time
-  std::vector<std::vector<NeuronRun>> runs;  // per population
-  // Counting sort of a bucket by target (group-global neuron id): events per target,
-  // then where each target's events start; targets that have events this window.
-  std::vector<std::uint32_t> target_start;  // per population neuron, zero between windows
-  std::vector<std::uint32_t> targets;
-  std::vector<PendingEvent> sorted;  // the bucket, grouped by target, each target's events ordered
+  std::vector<TargetPart> parts;
+  // Counting sort by target (group-global neuron id): events per target, then where
+  // each target's events start. Zero between windows; parts use disjoint ranges.
+  std::vector<std::uint32_t> target_start;
   std::vector<GlobalEvent> globals;
   std::vector<std::vector<WeightChange>> changes;  // per recorder, this window
   std::vector<double> weights;
@@ -342,27 +352,56 @@ void apply_global(Simulation::State& s, Scratch& scratch, RunObserver& observer,
   }
 }
 
-// Groups the bucket's events by target neuron into scratch.sorted, targets in
-// (population, neuron) order and each target's events in TargetEventOrder, and
-// lists each population's targets in scratch.runs. A counting sort: no comparison
-// between events of different targets. Only the targets that have events are
-// visited, so the cost follows the events, not the network's size.
-void group_by_target(const std::vector<PendingEvent>& bucket, const std::vector<std::uint32_t>& group_offset,
-                     Scratch& scratch) {
-  std::vector<std::uint32_t>& start = scratch.target_start;
-  std::vector<std::uint32_t>& targets = scratch.targets;
-  targets.clear();
-  for (const PendingEvent& e : bucket) {
-    const std::uint32_t id = e.target;
-    if (start[id]++ == 0) targets.push_back(id);
+// Cuts the blocks into `count` parts of about equal numbers of neurons.
+std::vector<TargetPart> make_parts(const std::vector<NeuronBlock>& blocks, const std::vector<std::uint32_t>& group_offset,
+                                   std::size_t count) {
+  std::uint64_t total = 0;
+  for (const NeuronBlock& b : blocks) total += b.count;
+  std::vector<TargetPart> parts;
+  std::uint64_t seen = 0;
+  std::uint32_t first = 0;
+  for (std::uint32_t b = 0; b < blocks.size(); ++b) {
+    seen += blocks[b].count;
+    const bool last = b + 1 == blocks.size();
+    if (!last && seen * count < total * (parts.size() + 1)) continue;
+    TargetPart& part = parts.emplace_back();
+    part.first_block = first;
+    part.end_block = b + 1;
+    part.first_gid = group_offset[blocks[first].population] + blocks[first].first;
+    part.end_gid = group_offset[blocks[b].population] + blocks[b].first + blocks[b].count;
+    part.marks.assign((part.end_gid - part.first_gid + 63) / 64, 0);
+    first = b + 1;
   }
-  // Few targets: sort their ids; many: read them off the count array in order.
-  if (targets.size() * 16 < start.size()) {
+  return parts;
+}
+
+// Groups the window's events whose targets lie in `part` by target: targets in
+// increasing id, each target's events in TargetEventOrder, and gives each block of
+// the part the list of its targets (BlockOutput::runs). A counting sort: no
+// comparison between events of different targets; the cost follows the events, not
+// the number of neurons. `start` is used only at the part's ids.
+void group_part(const std::vector<std::vector<PendingEvent>>& buckets, const Simulation::State& s,
+                std::vector<std::uint32_t>& start, TargetPart& part, std::vector<BlockOutput>& outputs) {
+  const std::uint32_t lo = part.first_gid, width = part.end_gid - part.first_gid;
+  std::vector<std::uint32_t>& targets = part.targets;
+  targets.clear();
+  std::size_t events = 0;
+  for (const auto& bucket : buckets)
+    for (const PendingEvent& e : bucket) {
+      const std::uint32_t id = e.target;
+      if (id - lo >= width) continue;
+      ++events;
+      if (start[id]++ == 0) targets.push_back(id);
+    }
+  // Targets in increasing id: few are sorted; many are read off a bitmap of the range.
+  if (targets.size() * 512 < width) {
     std::sort(targets.begin(), targets.end());
   } else {
+    for (std::uint32_t id : targets) part.marks[(id - lo) / 64] |= std::uint64_t{1} << ((id - lo) % 64);
     targets.clear();
-    for (std::uint32_t id = 0; id < start.size(); ++id)
-      if (start[id] != 0) targets.push_back(id);
+    for (std::size_t word = 0; word < part.marks.size(); ++word)
+      for (std::uint64_t bits = std::exchange(part.marks[word], 0); bits != 0; bits &= bits - 1)
+        targets.push_back(lo + static_cast<std::uint32_t>(word * 64 + std::countr_zero(bits)));
   }
   std::uint32_t offset = 0;
   for (std::uint32_t id : targets) {
@@ -370,15 +409,20 @@ void group_by_target(const std::vector<PendingEvent>& bucket, const std::vector<
     start[id] = offset;
     offset += count;
   }
-  std::vector<PendingEvent>& sorted = scratch.sorted;
-  sorted.resize(bucket.size());
-  for (const PendingEvent& e : bucket) sorted[start[e.target]++] = e;
+  std::vector<PendingEvent>& sorted = part.sorted;
+  sorted.resize(events);
+  for (const auto& bucket : buckets)
+    for (const PendingEvent& e : bucket)
+      if (e.target - lo < width) sorted[start[e.target]++] = e;
   // start[id] is now the end of target id's events; its start is the previous target's end.
-  for (auto& r : scratch.runs) r.clear();
+  for (std::uint32_t b = part.first_block; b < part.end_block; ++b) {
+    outputs[b].runs.clear();
+    outputs[b].events = sorted.data();
+  }
   std::size_t begin = 0;
-  std::uint32_t population = 0;  // of the target: targets come in increasing id order
+  std::uint32_t b = part.first_block;  // of the target: targets come in increasing id order
   for (std::uint32_t id : targets) {
-    while (id >= group_offset[population + 1]) ++population;
+    while (id >= s.group_offset[s.blocks[b].population] + s.blocks[b].first + s.blocks[b].count) ++b;
     const std::size_t end = start[id];
     start[id] = 0;
     // Most targets receive a few events per window: insertion sort; long lists use std::sort.
@@ -393,22 +437,8 @@ void group_by_target(const std::vector<PendingEvent>& bucket, const std::vector<
       std::sort(sorted.begin() + static_cast<std::ptrdiff_t>(begin), sorted.begin() + static_cast<std::ptrdiff_t>(end),
                 TargetEventOrder{});
     }
-    scratch.runs[population].push_back({id - group_offset[population], begin, end});
+    outputs[b].runs.push_back({id - s.group_offset[s.blocks[b].population], begin, end});
     begin = end;
-  }
-}
-
-// Finds each block's neurons in the window's NeuronRun lists (sorted by neuron).
-void assign_runs_to_blocks(const std::vector<NeuronBlock>& blocks, Scratch& scratch) {
-  std::size_t cursor = 0;
-  for (std::size_t b = 0; b < blocks.size(); ++b) {
-    const NeuronBlock& block = blocks[b];
-    if (b == 0 || blocks[b - 1].population != block.population) cursor = 0;
-    const std::vector<NeuronRun>& runs = scratch.runs[block.population];
-    BlockOutput& out = scratch.blocks[b];
-    out.runs_begin = cursor;
-    while (cursor < runs.size() && runs[cursor].neuron - block.first < block.count) ++cursor;
-    out.runs_end = cursor;
   }
 }
 
@@ -417,9 +447,8 @@ void assign_runs_to_blocks(const std::vector<NeuronBlock>& blocks, Scratch& scra
 // only the block's neurons, their incoming synapses and `out`. Returns early when a
 // stop is requested (setting `stopped`: the window is then abandoned) and at the
 // block's first failure, kept in out.failure for the caller to report in block order.
-void process_block(Simulation::State& s, std::uint32_t b, double segment_end, const std::vector<PendingEvent>& events,
-                   std::vector<NeuronRun>& runs, std::vector<double>& samples, BlockOutput& out, WorkerScratch& w,
-                   const std::atomic<bool>* stop, std::atomic<bool>& stopped) {
+void process_block(Simulation::State& s, std::uint32_t b, double segment_end, std::vector<double>& samples,
+                   BlockOutput& out, WorkerScratch& w, const std::atomic<bool>* stop, std::atomic<bool>& stopped) {
   const NeuronBlock& block = s.blocks[b];
   const std::uint32_t p = block.population;
   NeuronBank& group = *s.network.populations[p].neurons;
@@ -428,11 +457,13 @@ void process_block(Simulation::State& s, std::uint32_t b, double segment_end, co
   KernelHooks hooks(s, out.updates, p);
   w.due.clear();
   calendar.take_before(segment_end, w.due);  // indices within the block
-  std::size_t a = 0, r = out.runs_begin;
+  const PendingEvent* events = out.events;
+  std::vector<NeuronRun>& runs = out.runs;
+  std::size_t a = 0, r = 0;
   try {
     for (;;) {
-      while (r < out.runs_end && (runs[r].next == runs[r].end || events[runs[r].next].time >= segment_end)) ++r;
-      const bool has_event = r < out.runs_end;
+      while (r < runs.size() && (runs[r].next == runs[r].end || events[runs[r].next].time >= segment_end)) ++r;
+      const bool has_event = r < runs.size();
       const bool has_due = a < w.due.size();
       if (!has_event && !has_due) break;
       // A window can hold long work (many spikes, each updating many synapses): a
@@ -483,6 +514,33 @@ void process_block(Simulation::State& s, std::uint32_t b, double segment_end, co
   }
 }
 
+// Turns spikes of window w into one event per outgoing synapse, each in the bucket of
+// the window it arrives in, of producer `producer` (one per thread).
+void deliver(Simulation::State& s, std::span<const WindowSpike> spikes, std::uint64_t w, std::size_t producer) {
+  const Network& net = s.network;
+  const std::size_t ring_size = s.ring.size();
+  for (const WindowSpike& sp : spikes) {
+    for (std::uint32_t path_id : s.outgoing[sp.group]) {
+      const Pathway& path = net.pathways[path_id];
+      const SynapseStore& st = path.synapses;
+      const std::uint32_t target_offset = s.group_offset[path.target];
+      for (std::uint64_t k = st.begin(sp.index); k < st.end(sp.index); ++k) {
+        const double arrival = sp.time + st.delay[k];
+        if (arrival >= s.duration) continue;
+        const auto target_window = std::max<std::uint64_t>(w + 1, static_cast<std::uint64_t>(arrival / s.window));
+        PendingEvent ev;
+        ev.time = arrival;
+        ev.payload = k;
+        ev.target = target_offset + st.post[k];
+        ev.order = sp.gid;
+        ev.pathway = path_id;
+        ev.kind = InputKind::synaptic;
+        s.ring[target_window % ring_size][producer].push_back(ev);
+      }
+    }
+  }
+}
+
 // The number of windows that cover [0, duration), each ending at (w + 1) * window and
 // the last at the duration. Never silently 0: a count that cannot be held exactly
 // (a tiny window against a huge or infinite duration) is refused. Model checks
@@ -516,7 +574,6 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
   scratch.samples.resize(n_pop);
   scratch.sample_slots.resize(n_pop);
   scratch.next_sample.assign(s.traces.size(), 0);
-  scratch.runs.resize(n_pop);
   scratch.target_start.assign(s.group_offset[n_pop], 0);
   scratch.changes.resize(s.weight_recorders.size());
   scratch.blocks.resize(s.blocks.size());
@@ -525,6 +582,8 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
   if (!s.team) s.team = std::make_unique<WorkerTeam>(s.threads);
   WorkerTeam& team = *s.team;
   scratch.workers.resize(team.size());
+  for (auto& slot : s.ring) slot.resize(std::max<std::size_t>(slot.size(), team.size()));
+  scratch.parts = make_parts(s.blocks, s.group_offset, team.size());
   s.next_reward.resize(net.pathways.size(), 0);
   s.next_normalisation.resize(net.pathways.size(), 1);  // the first normalisation after one interval
   s.next_weight_sample.resize(s.weight_recorders.size(), 0);
@@ -546,7 +605,8 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
     // The last window ends exactly at the duration, whatever the rounding of w * window.
     const double t_end =
         w + 1 == window_count ? s.duration : std::min(static_cast<double>(w + 1) * s.window, s.duration);
-    auto& bucket = s.ring[w % ring_size];
+    std::vector<std::vector<PendingEvent>>& buckets = s.ring[w % ring_size];
+    std::vector<PendingEvent>& bucket = buckets[0];  // for the events made here
 
     // Injected-current changes and trace samples of this window join the bucket.
     s.currents.take_until(t_end, [&](const CurrentChange& c) {
@@ -584,10 +644,19 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
       if (scratch.samples[p].size() < need) scratch.samples[p].resize(need);
     }
 
-    group_by_target(bucket, s.group_offset, scratch);
+    // Group the window's events by target, a part of the neurons per thread (all on
+    // this thread when the window holds few events).
+    std::size_t window_events = 0;
+    for (const auto& b : buckets) window_events += b.size();
+    if (window_events >= 2048) {
+      team.for_each(scratch.parts.size(), [&](std::size_t q, unsigned) {
+        group_part(buckets, s, scratch.target_start, scratch.parts[q], scratch.blocks);
+      });
+    } else {
+      for (TargetPart& part : scratch.parts) group_part(buckets, s, scratch.target_start, part, scratch.blocks);
+    }
     gather_globals(s, t_end, scratch.globals);
 
-    assign_runs_to_blocks(s.blocks, scratch);
     // The window is cut at the times of global events into segments; in each, every
     // neuron with input there, or whose wake-up time falls before the segment's end,
     // is processed, in neuron index order within its block, blocks shared among the
@@ -598,15 +667,13 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
       const double segment_end = g < scratch.globals.size() ? scratch.globals[g].time : t_end;
       scratch.active.clear();
       for (std::uint32_t b = 0; b < s.blocks.size(); ++b)
-        if (scratch.blocks[b].runs_begin < scratch.blocks[b].runs_end ||
-            s.block_calendar[b].earliest() < segment_end)
+        if (!scratch.blocks[b].runs.empty() || s.block_calendar[b].earliest() < segment_end)
           scratch.active.push_back(b);
       std::atomic<bool> stopped{false};
       team.for_each(scratch.active.size(), [&](std::size_t i, unsigned worker) {
         const std::uint32_t b = scratch.active[i];
-        process_block(s, b, segment_end, scratch.sorted, scratch.runs[s.blocks[b].population],
-                      scratch.samples[s.blocks[b].population], scratch.blocks[b], scratch.workers[worker], stop,
-                      stopped);
+        process_block(s, b, segment_end, scratch.samples[s.blocks[b].population], scratch.blocks[b],
+                      scratch.workers[worker], stop, stopped);
       });
       if (stopped.load()) {
         stopped_inside = true;
@@ -644,7 +711,7 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
       summary.reason = EndReason::interrupted;
       break;
     }
-    bucket.clear();
+    for (auto& b : buckets) b.clear();
 
     // Spikes of the inputs.
     for (std::uint32_t i = 0; i < s.inputs.size(); ++i) {
@@ -692,26 +759,15 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
     }
 
     // Deliver: each spike becomes one event per outgoing synapse, in a later window.
-    for (const WindowSpike& sp : scratch.spikes) {
-      for (std::uint32_t path_id : s.outgoing[sp.group]) {
-        const Pathway& path = net.pathways[path_id];
-        const SynapseStore& st = path.synapses;
-        const std::uint32_t target_offset = s.group_offset[path.target];
-        for (std::uint64_t k = st.begin(sp.index); k < st.end(sp.index); ++k) {
-          const double arrival = sp.time + st.delay[k];
-          if (arrival >= s.duration) continue;
-          const auto target_window = std::max<std::uint64_t>(w + 1, static_cast<std::uint64_t>(arrival / s.window));
-          PendingEvent ev;
-          ev.time = arrival;
-          ev.payload = k;
-          ev.target = target_offset + st.post[k];
-          ev.order = sp.gid;
-          ev.pathway = path_id;
-          ev.kind = InputKind::synaptic;
-          s.ring[target_window % ring_size].push_back(ev);
-        }
-      }
-    }
+    // The spikes are cut into one share per thread, each filling buckets of its own;
+    // the order of events within and across buckets does not matter, since
+    // group_by_target orders each target's events completely.
+    const std::size_t shares = scratch.spikes.size() >= 16 ? team.size() : 1;
+    team.for_each(shares, [&](std::size_t share, unsigned) {
+      const std::size_t n = scratch.spikes.size();
+      deliver(s, std::span(scratch.spikes).subspan(n * share / shares, n * (share + 1) / shares - n * share / shares),
+              w, share);
+    });
     summary.windows++;
     summary.time_reached = t_end;
     observer.on_progress(t_end);

@@ -51,7 +51,8 @@ struct Simulation::State {
   // True after a run stopped inside a window (a stop request or a RunFailure): the
   // state is then partly ahead of next_window and must not be run further.
   bool unusable = false;
-  std::vector<std::vector<PendingEvent>> ring;  // one bucket per future window
+  // One slot per future window; in each, a bucket per producer (thread) of events.
+  std::vector<std::vector<std::vector<PendingEvent>>> ring;
   // Fixed blocks of neurons (kernel/neuron_blocks.hpp) and, per block, when its
   // neurons may fire on their own (indices within the block).
   std::vector<NeuronBlock> blocks;

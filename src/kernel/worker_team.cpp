@@ -2,14 +2,20 @@
 
 #include <sched.h>
 
+#include <chrono>
+
 namespace nvsyn {
 
 namespace {
 
-// Spin iterations before a waiting thread sleeps: long enough to cover the serial
-// stretch between two phases of one window (tens of microseconds), short enough
-// that a thread waiting through a long serial stretch soon stops using its core.
-constexpr int kSpins = 4000;
+// How a thread waits: spinning for up to kSpinTime, so that a phase that follows
+// within microseconds is seen at once, and yielding its core now and then, so that
+// with more threads than free cores the thread that holds a task gets to run; then
+// sleeping, so that a thread waiting through a long serial stretch stops using a
+// core. kSpinTime covers the serial stretch between two phases of one window of a
+// small network; waking a sleeping thread costs several times as much.
+constexpr auto kSpinTime = std::chrono::microseconds(100);
+constexpr int kSpinsPerYield = 64;
 
 inline void cpu_relax() {
 #if defined(__x86_64__) || defined(__i386__)
@@ -19,13 +25,19 @@ inline void cpu_relax() {
 #endif
 }
 
-// Waits until `value` differs from `seen`: spins, then sleeps.
+// Waits until `value` differs from `seen` and returns the new value.
 template <class T>
 T wait_for_change(const std::atomic<T>& value, T seen) {
-  for (int i = 0; i < kSpins; ++i) {
+  const auto give_up = std::chrono::steady_clock::now() + kSpinTime;
+  for (int i = 1;; ++i) {
     const T now = value.load(std::memory_order_acquire);
     if (now != seen) return now;
-    cpu_relax();
+    if (i % kSpinsPerYield != 0) {
+      cpu_relax();
+      continue;
+    }
+    if (std::chrono::steady_clock::now() > give_up) break;
+    sched_yield();
   }
   for (;;) {
     value.wait(seen, std::memory_order_acquire);
