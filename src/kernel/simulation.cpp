@@ -86,15 +86,17 @@ struct NeuronRun {
 
 // Order of the events of one target neuron: by time; at equal times by kind (InputKind
 // order: current change, synaptic, sample), then by emitting source, pathway and synapse
-// (the documented equal-time order, DEVELOPERS.md "The kernel"). For current changes
-// `order` is 0 and the sequence number in `pathway` is unique, so the amount's bits in
-// `payload` never decide; for samples `order` is the slot, given in trace order, so
-// samples of one time keep their trace order.
+// (the documented equal-time order, DEVELOPERS.md "The kernel"). Current changes have
+// `order` 0 and a unique sequence number in `pathway`; samples have their slot in
+// `order`, given in trace order, so samples of one time keep their trace order.
 // A function object rather than a function, so that std::sort inlines the comparison.
 struct TargetEventOrder {
   bool operator()(const PendingEvent& a, const PendingEvent& b) const {
-    return std::tie(a.time, a.kind, a.order, a.pathway, a.payload) <
-           std::tie(b.time, b.kind, b.order, b.pathway, b.payload);
+    if (a.time != b.time) return a.time < b.time;
+    if (a.kind != b.kind) return a.kind < b.kind;
+    if (a.order != b.order) return a.order < b.order;
+    if (a.pathway != b.pathway) return a.pathway < b.pathway;
+    return a.kind == InputKind::synaptic && a.synapse < b.synapse;
   }
 };
 
@@ -154,7 +156,6 @@ struct alignas(64) BlockOutput {
 // Buffers of one thread, reused for every neuron it processes. Aligned to a cache
 // line, like BlockOutput, so that threads never write to one line (false sharing).
 struct alignas(64) WorkerScratch {
-  std::vector<NeuronInput> inputs;
   std::vector<double> neuron_spikes;
   std::vector<std::uint32_t> due;  // neurons whose wake-up time falls in the segment
 };
@@ -452,7 +453,6 @@ void process_block(Simulation::State& s, std::uint32_t b, double segment_end, st
   const NeuronBlock& block = s.blocks[b];
   const std::uint32_t p = block.population;
   NeuronBank& group = *s.network.populations[p].neurons;
-  const std::vector<Pathway>& pathways = s.network.pathways;
   WakeCalendar& calendar = s.block_calendar[b];
   KernelHooks hooks(s, out.updates, p);
   w.due.clear();
@@ -476,30 +476,18 @@ void process_block(Simulation::State& s, std::uint32_t b, double segment_end, st
       const std::uint32_t n = has_event && (!has_due || runs[r].neuron <= due_neuron) ? runs[r].neuron : due_neuron;
       if (has_due && due_neuron == n) ++a;
 
-      w.inputs.clear();
+      // The neuron's inputs in this segment, where the grouping left them.
+      std::span<const PendingEvent> inputs;
       if (has_event && runs[r].neuron == n) {
         NeuronRun& run = runs[r];
-        for (; run.next < run.end && events[run.next].time < segment_end; ++run.next) {
-          const PendingEvent& ev = events[run.next];
-          NeuronInput in;
-          in.time = ev.time;
-          in.kind = ev.kind;
-          if (ev.kind == InputKind::synaptic) {
-            in.pathway = ev.pathway;
-            in.synapse = ev.payload;
-            in.receptor = pathways[ev.pathway].receptor;
-            ++out.synaptic_events;
-          } else if (ev.kind == InputKind::current_change) {
-            in.amount = std::bit_cast<double>(ev.payload);
-          } else {
-            in.slot = ev.order;
-          }
-          w.inputs.push_back(in);
-        }
+        const std::size_t first = run.next;
+        for (; run.next < run.end && events[run.next].time < segment_end; ++run.next)
+          out.synaptic_events += events[run.next].kind == InputKind::synaptic;
+        inputs = std::span(events + first, run.next - first);
         ++r;
       }
       w.neuron_spikes.clear();
-      group.process(n, w.inputs, segment_end, w.neuron_spikes, samples, hooks);
+      group.process(n, inputs, segment_end, w.neuron_spikes, samples, hooks);
       for (double t : w.neuron_spikes) out.spikes.push_back({t, s.group_offset[p] + n, p, n});
       calendar.set(n - block.first, group.earliest_threshold_time(n));
     }
@@ -530,11 +518,12 @@ void deliver(Simulation::State& s, std::span<const WindowSpike> spikes, std::uin
         const auto target_window = std::max<std::uint64_t>(w + 1, static_cast<std::uint64_t>(arrival / s.window));
         PendingEvent ev;
         ev.time = arrival;
-        ev.payload = k;
+        ev.synapse = k;
         ev.target = target_offset + st.post[k];
         ev.order = sp.gid;
         ev.pathway = path_id;
         ev.kind = InputKind::synaptic;
+        ev.receptor = path.receptor;
         s.ring[target_window % ring_size][producer].push_back(ev);
       }
     }
@@ -612,7 +601,7 @@ RunSummary Simulation::run(RunObserver& observer, const std::atomic<bool>* stop)
     s.currents.take_until(t_end, [&](const CurrentChange& c) {
       PendingEvent e;
       e.time = c.time;
-      e.payload = std::bit_cast<std::uint64_t>(c.delta);
+      e.amount = c.delta;
       e.target = s.group_offset[c.population] + c.neuron;
       e.pathway = c.sequence;
       e.kind = InputKind::current_change;

@@ -9,21 +9,10 @@
 
 namespace nvsyn {
 
-// An event waiting for delivery to one neuron: 32 bytes. The target's population and
-// neuron follow from the group-global id (State::group_offset).
-struct PendingEvent {
-  double time = 0.0;
-  // Synaptic event: synapse index in the pathway's store; current change: the bits of
-  // its amount (A, std::bit_cast); sample: 0.
-  std::uint64_t payload = 0;
-  std::uint32_t target = 0;   // group-global id of the target neuron
-  // Synaptic event: emitting group-global id; sample: its slot; current change: 0.
-  // Second key at equal times (after kind): see TargetEventOrder in simulation.cpp.
-  std::uint32_t order = 0;
-  std::uint32_t pathway = 0;  // or sequence number of a current change, or trace of a sample
-  InputKind kind = InputKind::synaptic;
-};
-static_assert(sizeof(PendingEvent) <= 32, "events are copied twice per window: keep them small");
+// An event waiting for delivery to one neuron is the neuron's input record itself
+// (neurons/neuron_bank.hpp): the target's population and neuron follow from the
+// group-global id (State::group_offset).
+using PendingEvent = NeuronInput;
 
 struct Simulation::State {
   Network network;

@@ -27,15 +27,25 @@ enum class Receptor : std::uint8_t { excitatory = 0, inhibitory = 1 };
 // Order of kinds at equal times: current changes, then synaptic input, then samples.
 enum class InputKind : std::uint8_t { current_change = 0, synaptic = 1, sample = 2 };
 
+// One input of one neuron: 32 bytes. The same record is the kernel's pending event,
+// so that a neuron's inputs are handed over where the kernel grouped them, without
+// a copy; `target` and `order` are the kernel's (models ignore them).
 struct NeuronInput {
-  double time = 0.0;       // s
-  double amount = 0.0;     // A: change of injected current; for synaptic input see SpikeHooks
-  std::uint64_t synapse = 0;   // synaptic: index within its pathway
-  std::uint32_t pathway = 0;   // synaptic: pathway index
-  std::uint32_t slot = 0;  // for samples: row of the sample buffer to fill
+  double time = 0.0;  // s
+  union {
+    double amount = 0.0;     // A: change of injected current; for synaptic input see SpikeHooks
+    std::uint64_t synapse;   // synaptic input from the kernel: index within its pathway
+  };
+  std::uint32_t target = 0;  // kernel: group-global id of the target neuron
+  union {
+    std::uint32_t order = 0;  // kernel: group-global id of the emitting source (synaptic input)
+    std::uint32_t slot;       // samples: row of the sample buffer to fill
+  };
+  std::uint32_t pathway = 0;  // synaptic: pathway index; kernel: sequence number of a current change
   InputKind kind = InputKind::synaptic;
   Receptor receptor = Receptor::excitatory;
 };
+static_assert(sizeof(NeuronInput) == 32, "the kernel copies and sorts these records: keep them small");
 
 // How a neuron model talks back to the kernel while it works through a window, in
 // time order: the amplitude of a synaptic input is asked for at the moment it is
