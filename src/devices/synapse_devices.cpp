@@ -287,7 +287,7 @@ void SynapseDevices::refresh(std::size_t k, double t) {
   const std::size_t other = difference >= 0 ? base + 1 : base;
   program_and_verify(devices_, up, devices_.read(other, t) + std::abs(difference), t, layout_.verify);
   if (!last_refresh_.empty()) last_refresh_[k] = t;
-  ++refreshes_;
+  refreshes_.fetch_add(1, std::memory_order_relaxed);
 }
 
 }  // namespace nvsyn

@@ -14,6 +14,7 @@
 // gain is a voltage: the synaptic current jump per siemens (w in A, G in S); a file
 // may give `weight_max` instead, the weight of a fully programmed synapse.
 // The sign of the weight the neuron sees comes from the pathway's receptor.
+#include <atomic>
 #include <cstdint>
 #include <memory>
 #include <string>
@@ -106,7 +107,7 @@ class SynapseDevices {
 
   // Device index of device j of synapse k.
   std::size_t device_index(std::size_t k, std::uint32_t j) const { return k * layout_.devices() + j; }
-  std::uint64_t refresh_count() const { return refreshes_; }
+  std::uint64_t refresh_count() const { return refreshes_.load(std::memory_order_relaxed); }
   // Per-synapse arrays for the run file.
   std::size_t devices_per_synapse() const { return layout_.devices(); }
 
@@ -121,7 +122,9 @@ class SynapseDevices {
   DeviceArray devices_;
   std::vector<std::uint32_t> selector_;  // multi: device chosen next / pulses on it
   std::vector<double> last_refresh_;     // differential with refresh_interval: s
-  std::uint64_t refreshes_ = 0;
+  // Atomic: refreshes happen while the kernel's threads process neurons (a count of
+  // integers is the same whatever order the threads add to it).
+  std::atomic<std::uint64_t> refreshes_{0};
 };
 
 }  // namespace nvsyn
