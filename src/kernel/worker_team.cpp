@@ -2,7 +2,12 @@
 
 #include <sched.h>
 
+#include <algorithm>
 #include <chrono>
+#include <cmath>
+#include <cstdlib>
+#include <fstream>
+#include <string>
 
 namespace nvsyn {
 
@@ -56,54 +61,95 @@ WorkerTeam::WorkerTeam(unsigned threads) {
 
 WorkerTeam::~WorkerTeam() {
   quit_.store(true, std::memory_order_relaxed);
-  phase_.fetch_add(1, std::memory_order_release);
-  phase_.notify_all();
+  ticket_.fetch_add(std::uint64_t{1} << 32, std::memory_order_release);
+  ticket_.notify_all();
   for (std::thread& t : workers_) t.join();
 }
 
-void WorkerTeam::claim_tasks(unsigned worker) {
+void WorkerTeam::claim_tasks(std::uint64_t ticket, unsigned worker) {
+  const std::uint64_t phase_number = ticket >> 32;
+  const Phase& phase = phases_[phase_number % 2];
   for (;;) {
-    const std::size_t i = next_task_.fetch_add(1, std::memory_order_relaxed);
-    if (i >= count_) return;
-    call_(context_, i, worker);
+    const std::size_t i = ticket & 0xffffffffu;
+    // Read after `ticket` was: if the phase has moved on since, the slot may hold a
+    // later phase's values, but then the exchange below fails.
+    const std::size_t count = phase.count.load(std::memory_order_relaxed);
+    if (i >= count) return;
+    if (!ticket_.compare_exchange_weak(ticket, ticket + 1, std::memory_order_acquire, std::memory_order_relaxed)) {
+      // Another thread claimed task i (try the next), or the phase moved on (stop).
+      if ((ticket >> 32) != phase_number) return;
+      continue;
+    }
+    phase.call.load(std::memory_order_relaxed)(phase.context.load(std::memory_order_relaxed), i, worker);
+    if (done_.fetch_add(1, std::memory_order_release) + 1 == count) done_.notify_one();
+    ++ticket;
   }
 }
 
 void WorkerTeam::run(std::size_t count, Trampoline call, void* context) {
-  call_ = call;
-  context_ = context;
-  count_ = count;
-  next_task_.store(0, std::memory_order_relaxed);
-  busy_.store(static_cast<unsigned>(workers_.size()), std::memory_order_relaxed);
+  const std::uint64_t phase_number = (ticket_.load(std::memory_order_relaxed) >> 32) + 1;
+  Phase& phase = phases_[phase_number % 2];
+  phase.call.store(call, std::memory_order_relaxed);
+  phase.context.store(context, std::memory_order_relaxed);
+  phase.count.store(count, std::memory_order_relaxed);
+  done_.store(0, std::memory_order_relaxed);
   // Publishes the phase: everything above happens before a worker's acquire load.
-  phase_.fetch_add(1, std::memory_order_release);
-  phase_.notify_all();
-  claim_tasks(0);
-  // Every worker leaves the phase (having seen the last task claimed) before the
-  // next phase may overwrite call_, context_ and count_.
-  for (unsigned busy = busy_.load(std::memory_order_acquire); busy != 0;)
-    busy = wait_for_change(busy_, busy);
+  const std::uint64_t ticket = phase_number << 32;
+  ticket_.store(ticket, std::memory_order_release);
+  ticket_.notify_all();
+  claim_tasks(ticket, 0);
+  // Every task has been claimed; wait until the last one is finished. Its results
+  // are visible here through the release/acquire pair on done_.
+  for (std::size_t done = done_.load(std::memory_order_acquire); done != count;)
+    done = wait_for_change(done_, done);
 }
 
 void WorkerTeam::work(unsigned worker) {
   std::uint64_t seen = 0;
   for (;;) {
-    seen = wait_for_change(phase_, seen);
+    const std::uint64_t ticket = wait_for_change(ticket_, seen);
     if (quit_.load(std::memory_order_relaxed)) return;
-    claim_tasks(worker);
-    // The release half publishes this worker's results to the caller's acquire load.
-    if (busy_.fetch_sub(1, std::memory_order_acq_rel) == 1) busy_.notify_one();
+    claim_tasks(ticket, worker);
+    // Wait for the next phase, not for a change of the index within this one.
+    seen = ticket_.load(std::memory_order_acquire);
+    if ((seen >> 32) != (ticket >> 32)) seen = ticket;  // a new phase already started: take it next
   }
 }
 
+namespace {
+
+// CPUs' worth of time a container's CPU quota allows (cgroup v2 cpu.max, or v1
+// cfs_quota_us / cfs_period_us), rounded up; 0 when there is no quota. A quota of
+// 2 CPUs on a 64-core host must give 2 threads: more would be descheduled in turn.
+unsigned cpu_quota() {
+  auto quota_of = [](double quota, double period) -> unsigned {
+    if (!(quota > 0) || !(period > 0)) return 0;
+    return static_cast<unsigned>(std::ceil(quota / period));
+  };
+  if (std::ifstream v2("/sys/fs/cgroup/cpu.max"); v2) {
+    std::string quota;
+    double period = 0;
+    if (v2 >> quota >> period && quota != "max") return quota_of(std::atof(quota.c_str()), period);
+    return 0;
+  }
+  for (const char* folder : {"/sys/fs/cgroup/cpu", "/sys/fs/cgroup/cpu,cpuacct"}) {
+    std::ifstream quota_file(std::string(folder) + "/cpu.cfs_quota_us");
+    std::ifstream period_file(std::string(folder) + "/cpu.cfs_period_us");
+    double quota = 0, period = 0;
+    if (quota_file >> quota && period_file >> period) return quota_of(quota, period);  // -1: no quota
+  }
+  return 0;
+}
+
+}  // namespace
+
 unsigned default_thread_count() {
+  unsigned n = 0;
   cpu_set_t set;
   CPU_ZERO(&set);
-  if (sched_getaffinity(0, sizeof(set), &set) == 0) {
-    const int n = CPU_COUNT(&set);
-    if (n > 0) return static_cast<unsigned>(n);
-  }
-  const unsigned n = std::thread::hardware_concurrency();
+  if (sched_getaffinity(0, sizeof(set), &set) == 0) n = static_cast<unsigned>(std::max(0, CPU_COUNT(&set)));
+  if (n == 0) n = std::thread::hardware_concurrency();
+  if (const unsigned quota = cpu_quota(); quota > 0 && (n == 0 || quota < n)) n = quota;
   return n > 0 ? n : 1;
 }
 

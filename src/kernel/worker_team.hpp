@@ -8,8 +8,11 @@
 // follows quickly costs no system call, a long serial stretch costs no CPU.
 //
 // Work is a count of independent tasks, claimed one at a time from a shared counter,
-// so a slow task does not hold up the others. Which thread runs which task varies
-// from run to run: callers make results independent of it (kernel/neuron_blocks.hpp).
+// so a slow task does not hold up the others, and a phase ends when its tasks are
+// done, whether or not every thread took part: a thread the system has descheduled
+// (more threads than free cores) delays a phase only if it holds one of its tasks.
+// Which thread runs which task varies from run to run: callers make results
+// independent of it (kernel/neuron_blocks.hpp).
 #include <atomic>
 #include <cstddef>
 #include <cstdint>
@@ -46,21 +49,29 @@ class WorkerTeam {
   using Trampoline = void (*)(void*, std::size_t, unsigned);
   void run(std::size_t count, Trampoline call, void* context);
   void work(unsigned worker);
-  void claim_tasks(unsigned worker);
+  // Claims and runs tasks of the phase `ticket` belongs to until none is left.
+  void claim_tasks(std::uint64_t ticket, unsigned worker);
+
+  // What a phase runs. Two slots, by phase parity: a slot is rewritten only two phases
+  // later, when no task of its phase can be claimed any more (see claim_tasks).
+  struct Phase {
+    std::atomic<Trampoline> call{nullptr};
+    std::atomic<void*> context{nullptr};
+    std::atomic<std::size_t> count{0};
+  };
 
   std::vector<std::thread> workers_;
-  // The current phase: published by bumping `phase_`, read by the workers after
-  // they see the new value.
-  Trampoline call_ = nullptr;
-  void* context_ = nullptr;
-  std::size_t count_ = 0;
-  alignas(64) std::atomic<std::uint64_t> phase_{0};
-  alignas(64) std::atomic<std::size_t> next_task_{0};
-  alignas(64) std::atomic<unsigned> busy_{0};  // workers still inside the phase
+  Phase phases_[2];
+  // (phase number << 32) | index of the next unclaimed task. A claim is a
+  // compare-and-swap on the whole word, so a thread that was descheduled and wakes
+  // up late can never claim a task of a phase that has moved on.
+  alignas(64) std::atomic<std::uint64_t> ticket_{0};
+  alignas(64) std::atomic<std::size_t> done_{0};  // tasks of the current phase finished
   std::atomic<bool> quit_{false};
 };
 
-// The number of threads to use by default: every core this process may run on.
+// The number of threads to use by default: every core this process may run on
+// (its CPU affinity), at most the CPU quota of its container (cgroups) if it has one.
 unsigned default_thread_count();
 
 }  // namespace nvsyn
